@@ -1,1 +1,23 @@
+//! noisesonde: from a noise recording to numbers a lab can defend.
+//!
+//! One pipeline serves every front end: a [`io::SampleSource`] streams samples of one channel
+//! into an [`analysis::Analyzer`] built from [`analysis::Settings`], which produces a
+//! [`report::Report`]: moments with their meaning (DC level, total and AC power), a Welch PSD
+//! with its resolution bandwidth and confidence interval, the autocorrelation, and checks that
+//! tie them together (Parseval, Wiener–Khinchin).
+//!
+//! The core does no file-system, DOM or clock access; SI units inside, decibels only at the edge.
+
+pub mod acf;
+pub mod analysis;
+pub mod error;
 pub mod io;
+pub mod moments;
+pub mod report;
+pub mod spectral;
+pub mod units;
+pub mod window;
+
+pub use analysis::{analyze, Analyzer, Settings};
+pub use error::{AnalysisError, Error, SettingsError};
+pub use report::Report;

@@ -29,3 +29,13 @@ impl SampleSource for CsvSource {
         &self.warnings
     }
 }
+
+impl std::str::FromStr for ColumnSelector {
+    type Err = String;
+    fn from_str(text: &str) -> Result<Self, Self::Err> {
+        Ok(match text.parse::<usize>() {
+            Ok(i) => Self::Index(i),
+            Err(_) => Self::Name(text.to_string()),
+        })
+    }
+}

@@ -35,3 +35,10 @@ impl SampleSource for RawSource {
         &self.warnings
     }
 }
+
+impl std::str::FromStr for RawFormat {
+    type Err = String;
+    fn from_str(text: &str) -> Result<Self, Self::Err> {
+        Err(format!("raw format '{text}' not supported yet"))
+    }
+}

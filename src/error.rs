@@ -1,0 +1,67 @@
+//! Errors of the pipeline. Every variant names the values involved and, where one exists, the fix.
+
+/// Settings that cannot be used.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[non_exhaustive]
+pub enum SettingsError {
+    #[error("segment length {segment_len} is out of range: use {min} to {max} samples")]
+    SegmentLength {
+        segment_len: usize,
+        min: usize,
+        max: usize,
+    },
+    #[error("overlap {overlap_frac} is out of range: use a fraction from 0 up to (not including) 1, e.g. 0.5")]
+    Overlap { overlap_frac: f64 },
+    #[error("window {window} has zero sum and cannot be used")]
+    DegenerateWindow { window: String },
+    #[error("maximum lag of {max_lag_len} samples exceeds the limit of {limit}: choose a shorter --max-lag-s")]
+    MaxLag { max_lag_len: usize, limit: usize },
+    #[error("maximum lag {max_lag_s} s is invalid: use a finite number of seconds ≥ 0")]
+    MaxLagSeconds { max_lag_s: f64 },
+    #[error("sample rate {sample_rate_hz} Hz is invalid: it must be a finite number above 0")]
+    SampleRate { sample_rate_hz: f64 },
+    #[error("calibration scale {scale} is invalid: give the physical value of digital full scale, a finite number above 0")]
+    Scale { scale: f64 },
+    #[error("unit name '{unit}' is invalid: use 1 to 16 printable characters without spaces, e.g. V, Pa, g")]
+    Unit { unit: String },
+    #[error("confidence level {level} is invalid: use a fraction between 0 and 1, e.g. 0.95")]
+    ConfidenceLevel { level: f64 },
+    #[error("unknown {what} '{text}': use one of {choices}")]
+    UnknownChoice {
+        what: &'static str,
+        text: String,
+        choices: &'static str,
+    },
+}
+
+/// Problems found in the samples themselves.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[non_exhaustive]
+pub enum AnalysisError {
+    #[error("sample {index} (at {time_s} s) is {value}: the record holds a non-finite value; remove or repair it before analysis")]
+    NonFiniteSample { index: u64, time_s: f64, value: f64 },
+    #[error("the record has {samples} samples, fewer than one segment of {segment_len}: use a shorter segment, e.g. --segment {suggestion}")]
+    TooShort {
+        samples: u64,
+        segment_len: usize,
+        suggestion: usize,
+    },
+    #[error("median averaging would store {segments} segments × {bins} bins, more than {max_values} values: use mean averaging, longer segments, or a shorter record")]
+    MedianTooLong {
+        segments: usize,
+        bins: usize,
+        max_values: usize,
+    },
+}
+
+/// Any failure of the pipeline.
+#[derive(Debug, thiserror::Error)]
+#[non_exhaustive]
+pub enum Error {
+    #[error(transparent)]
+    Read(#[from] crate::io::ReadError),
+    #[error(transparent)]
+    Settings(#[from] SettingsError),
+    #[error(transparent)]
+    Analysis(#[from] AnalysisError),
+}

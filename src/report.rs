@@ -1,0 +1,161 @@
+//! The report: plain data that every front end consumes. Field names carry units; the README
+//! documents each field.
+
+use serde::Serialize;
+
+use crate::acf::AcfEstimator;
+use crate::io::SourceInfo;
+use crate::moments::Moments;
+use crate::spectral::{Average, Detrend};
+use crate::units::{Calibration, DerivedUnits};
+use crate::window::WindowKind;
+
+/// Version of the report's layout; bumped when a field changes meaning or disappears.
+pub const SCHEMA: &str = "noisesonde.report/1";
+
+/// Everything measured on one record.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Report {
+    /// Layout version, [`SCHEMA`].
+    pub schema: &'static str,
+    /// What was read.
+    pub source: SourceInfo,
+    /// Sample rate in hertz.
+    pub sample_rate_hz: f64,
+    /// Samples analysed (of the chosen channel).
+    pub samples: u64,
+    /// samples / sample_rate_hz.
+    pub duration_s: f64,
+    /// Channel analysed, 0-based.
+    pub channel: usize,
+    /// Unit of the samples after calibration.
+    pub unit: String,
+    /// Units of derived quantities.
+    pub units: DerivedUnits,
+    /// The calibration applied.
+    pub calibration: Calibration,
+    /// Moments in `unit` (powers in `unit`²).
+    pub moments: Moments,
+    /// Welch power spectral density.
+    pub psd: PsdReport,
+    /// Autocorrelation and autocovariance.
+    pub acf: AcfReport,
+    /// Consistency checks between the estimators.
+    pub checks: Checks,
+    /// Things the user should know (truncated files, clipping, few segments, …).
+    pub warnings: Vec<String>,
+}
+
+/// The PSD with everything needed to read it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PsdReport {
+    /// Bin centre frequencies, Hz.
+    pub frequency_hz: Vec<f64>,
+    /// One-sided power spectral density, `unit`²/Hz.
+    pub density: Vec<f64>,
+    /// One-sided power spectrum, `unit`² (density × enbw_hz).
+    pub power_spectrum: Vec<f64>,
+    /// Unit of `density`, e.g. `V^2/Hz`.
+    pub unit: String,
+    /// Unit of `power_spectrum`, e.g. `V^2`.
+    pub power_spectrum_unit: String,
+    /// Window applied to each segment.
+    pub window: WindowKind,
+    /// Segment length L, samples.
+    pub segment_len: usize,
+    /// Overlap O, samples.
+    pub overlap_len: usize,
+    /// Per-segment detrend.
+    pub detrend: Detrend,
+    /// Mean or median averaging.
+    pub average: Average,
+    /// Bin spacing f_s/L, Hz.
+    pub bin_width_hz: f64,
+    /// Equivalent noise bandwidth, bins.
+    pub enbw_bins: f64,
+    /// Equivalent noise bandwidth (resolution bandwidth, RBW), Hz.
+    pub enbw_hz: f64,
+    /// Segments averaged.
+    pub segments: usize,
+    /// Equivalent degrees of freedom of interior bins (DC and Nyquist have half).
+    pub dof: f64,
+    /// Samples after the last whole segment, not in the PSD.
+    pub unused_samples: u64,
+    /// Confidence level of the interval, e.g. 0.95.
+    pub confidence_level: f64,
+    /// Lower end of the chi-square interval of `density`, `unit`²/Hz.
+    pub ci_lower: Vec<f64>,
+    /// Upper end of the chi-square interval of `density`, `unit`²/Hz.
+    pub ci_upper: Vec<f64>,
+    /// ci_lower / density for interior bins.
+    pub ci_factor_lower: f64,
+    /// ci_upper / density for interior bins.
+    pub ci_factor_upper: f64,
+}
+
+/// Autocorrelation against lag.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct AcfReport {
+    /// Lags, s.
+    pub lag_s: Vec<f64>,
+    /// R[k] = (1/N) Σ x[n]x[n+k] (or 1/(N−k), unbiased), `unit`²; R[0] = mean square.
+    pub autocorrelation: Vec<f64>,
+    /// C[k], the same with the record's mean removed, `unit`²; C[0] = variance.
+    pub autocovariance: Vec<f64>,
+    /// C[k]/C[0], dimensionless.
+    pub coefficient: Vec<f64>,
+    /// Unit of `autocorrelation` and `autocovariance`.
+    pub unit: String,
+    /// Biased (1/N) or unbiased (1/(N−k)).
+    pub estimator: AcfEstimator,
+    /// Largest lag computed, s.
+    pub max_lag_s: f64,
+    /// First lag where the coefficient crosses zero (linear interpolation), s; `None` if it
+    /// stays positive up to the largest lag.
+    pub zero_crossing_s: Option<f64>,
+    /// First lag where the coefficient falls to 1/e (linear interpolation), s; `None` if it
+    /// stays above.
+    pub one_over_e_s: Option<f64>,
+}
+
+/// First lag (in samples, linearly interpolated) where `coefficient` falls to `level` or below.
+pub fn first_crossing(coefficient: &[f64], level: f64) -> Option<f64> {
+    coefficient.windows(2).enumerate().find_map(|(k, pair)| {
+        let (a, b) = (pair[0], pair[1]);
+        (a > level && b <= level).then(|| k as f64 + (a - level) / (a - b))
+    })
+}
+
+/// Cross-checks that the numbers hang together.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Checks {
+    /// ∫PSD df against the time-domain power.
+    pub parseval: Parseval,
+    /// The ACF obtained from the PSD against the direct ACF.
+    pub wiener_khinchin: WienerKhinchin,
+}
+
+/// Parseval's theorem: the integrated one-sided density equals the power it came from.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Parseval {
+    /// Σ density × bin_width_hz, `unit`².
+    pub integrated_psd: f64,
+    /// The time-domain power it is compared with, `unit`².
+    pub time_domain: f64,
+    /// `variance` (when segments are detrended) or `mean_square` (no detrend).
+    pub compared_with: &'static str,
+    /// integrated_psd / time_domain (1 for a stationary record; 0 when the power is zero).
+    pub ratio: f64,
+}
+
+/// Wiener–Khinchin: the inverse transform of the averaged PSD, corrected for the window's
+/// own correlation, against the directly computed ACF.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct WienerKhinchin {
+    /// Largest |ACF_from_PSD[k] − ACF[k]| / ACF[0] over the lags compared.
+    pub max_deviation: f64,
+    /// Lags compared: 0..=this many samples (up to L/4 and the maximum lag).
+    pub lags_compared: usize,
+    /// `autocovariance` (detrended segments) or `autocorrelation` (no detrend).
+    pub compared_with: &'static str,
+}

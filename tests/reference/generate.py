@@ -1,0 +1,198 @@
+#!/usr/bin/env python3
+"""Reference vectors for noisesonde's estimator tests, computed with numpy and scipy.
+
+Writes (into the folder given as the first argument, default: this script's folder):
+  inputs/<name>.f64   input signals, little-endian float64
+  vectors.json        scipy.signal.welch / numpy autocorrelation / scipy.stats.chi2 results
+
+The inputs come from a 64-bit linear congruential generator in integer arithmetic (constants
+of Knuth's MMIX LCG, from memory), so they do not depend on numpy's random streams; tones use
+math.sin. `cargo xtask test` runs this script into a temporary folder and compares the result
+with the committed copy, which proves the committed vectors are what the pinned scipy computes.
+
+Pinned versions: see tests/requirements.txt (numpy, scipy).
+"""
+import json
+import math
+import os
+import sys
+
+import numpy as np
+import scipy
+from scipy import signal, stats
+
+MMIX_A = 6364136223846793005  # Knuth, MMIX LCG multiplier (from memory)
+MMIX_C = 1442695040888963407  # Knuth, MMIX LCG increment (from memory)
+MASK = (1 << 64) - 1
+
+
+def lcg_uniform(n, seed):
+    """n samples uniform on [-1, 1): the top 53 bits of each LCG state."""
+    state = seed & MASK
+    out = np.empty(n)
+    for i in range(n):
+        state = (MMIX_A * state + MMIX_C) & MASK
+        out[i] = (state >> 11) / float(1 << 53) * 2.0 - 1.0
+    return out
+
+
+def make_inputs():
+    n = 20000
+    fs = 1000.0
+    t = np.arange(n) / fs
+    white = lcg_uniform(n, 12345)
+    # AR(1)-coloured noise with a DC offset, a ramp and two tones (one between bins).
+    colored = np.empty(n)
+    acc = 0.0
+    for i, e in enumerate(lcg_uniform(n, 777)):
+        acc = 0.9 * acc + e
+        colored[i] = acc
+    tones = np.array([0.5 * math.sin(2 * math.pi * 50.0 * ti) + 0.05 * math.sin(2 * math.pi * 123.4 * ti)
+                      for ti in t])
+    mixed = 3.0 + 1e-4 * np.arange(n) + colored + tones
+    odd = lcg_uniform(7777, 99)
+    return {
+        "white": (white, fs),
+        "mixed": (mixed, fs),
+        "odd": (odd, 48000.0),
+    }
+
+
+def periodic_window(spec, n):
+    """The window as scipy builds it (periodic / DFT-even)."""
+    if spec == "flat-top":
+        # HFT95, Heinzel, Ruediger & Schilling 2002, section C.
+        return signal.windows.general_cosine(n, [1.0, 1.9383379, 1.3045202, 0.4028270, 0.0350665], sym=False)
+    if spec.startswith("kaiser:"):
+        return signal.get_window(("kaiser", float(spec.split(":")[1])), n)
+    name = {"hann": "hann", "hamming": "hamming", "blackman-harris": "blackmanharris",
+            "rectangular": "boxcar"}[spec]
+    return signal.get_window(name, n)
+
+
+WELCH_CASES = [
+    # input, window, segment_len, overlap_frac, detrend, average
+    ("white", "hann", 1024, 0.5, "mean", "mean"),
+    ("white", "hamming", 1024, 0.5, "mean", "mean"),
+    ("white", "blackman-harris", 512, 0.75, "mean", "mean"),
+    ("white", "flat-top", 512, 0.5, "mean", "mean"),
+    ("white", "rectangular", 1000, 0.0, "mean", "mean"),
+    ("white", "kaiser:8.6", 2048, 0.5, "mean", "mean"),
+    ("mixed", "hann", 1024, 0.5, "none", "mean"),
+    ("mixed", "hann", 1024, 0.5, "linear", "mean"),
+    ("mixed", "blackman-harris", 4096, 0.5, "mean", "mean"),
+    ("mixed", "hann", 1024, 0.5, "mean", "median"),
+    ("white", "hann", 2000, 0.5, "mean", "median"),
+    ("odd", "hann", 1001, 0.3, "mean", "mean"),
+    ("odd", "hamming", 777, 0.5, "linear", "median"),
+]
+
+ACF_CASES = [("white", 300), ("mixed", 2500), ("odd", 7776)]
+
+
+def welch_case(x, fs, window, seg, overlap, detrend, average):
+    noverlap = min(int(math.floor(overlap * seg + 1e-9)), seg - 1)  # noisesonde's rule: floor
+    w = periodic_window(window, seg)
+    det = {"none": False, "mean": "constant", "linear": "linear"}[detrend]
+    f, density = signal.welch(x, fs=fs, window=w, nperseg=seg, noverlap=noverlap, detrend=det,
+                              average=average, scaling="density")
+    _, spectrum = signal.welch(x, fs=fs, window=w, nperseg=seg, noverlap=noverlap, detrend=det,
+                               average=average, scaling="spectrum")
+    segments = (len(x) - noverlap) // (seg - noverlap)
+    # Equivalent degrees of freedom, Percival & Walden 1993 eq. (292b), written independently here.
+    step = seg - noverlap
+    k = segments
+    total = 0.0
+    for m in range(1, k):
+        shift = m * step
+        if shift >= seg:
+            break
+        rho = np.dot(w[:seg - shift], w[shift:]) / np.dot(w, w)
+        total += (1 - m / k) * rho ** 2
+    return {
+        "frequency_hz": f.tolist(),
+        "density": density.tolist(),
+        "power_spectrum": spectrum.tolist(),
+        "overlap_len": noverlap,
+        "segments": segments,
+        "enbw_bins": float(seg * np.sum(w ** 2) / np.sum(w) ** 2),
+        "dof": float(2 * k / (1 + 2 * total)),
+    }
+
+
+def acf_case(x, max_lag):
+    """Autocorrelation by zero-padded FFT (numpy), exact up to rounding."""
+    n = len(x)
+    size = 1 << int(math.ceil(math.log2(2 * n)))
+    def lagged(v):
+        spec = np.fft.rfft(v, size)
+        return np.fft.irfft(spec * np.conj(spec), size)[: max_lag + 1]
+    raw = lagged(x)
+    cen = lagged(x - x.mean())
+    pairs = n - np.arange(max_lag + 1)
+    return {
+        "biased_autocorrelation": (raw / n).tolist(),
+        "biased_autocovariance": (cen / n).tolist(),
+        "unbiased_autocorrelation": (raw / pairs).tolist(),
+        "unbiased_autocovariance": (cen / pairs).tolist(),
+        "mean": float(x.mean()),
+        "variance": float(x.var()),
+        "mean_square": float(np.mean(x ** 2)),
+    }
+
+
+def window_figures(n):
+    out = {}
+    for name in ["hann", "hamming", "blackman-harris", "flat-top", "rectangular", "kaiser:8.6", "kaiser:3.0"]:
+        w = periodic_window(name, n)
+        out[name] = {
+            "coefficients_head": w[:16].tolist(),
+            "coefficients_mid": w[n // 2 - 8: n // 2 + 8].tolist(),
+            "enbw_bins": float(n * np.sum(w ** 2) / np.sum(w) ** 2),
+            "coherent_gain": float(np.sum(w) / (n * np.max(w))),
+        }
+    return out
+
+
+def main():
+    folder = sys.argv[1] if len(sys.argv) > 1 else os.path.dirname(os.path.abspath(__file__))
+    os.makedirs(os.path.join(folder, "inputs"), exist_ok=True)
+    inputs = make_inputs()
+    doc = {
+        "generator": "tests/reference/generate.py",
+        "numpy": np.__version__,
+        "scipy": scipy.__version__,
+        "inputs": {},
+        "welch": [],
+        "acf": [],
+        "windows_4096": window_figures(4096),
+        "chi2": [],
+    }
+    for name, (x, fs) in inputs.items():
+        x.astype("<f8").tofile(os.path.join(folder, "inputs", name + ".f64"))
+        doc["inputs"][name] = {"file": "inputs/" + name + ".f64", "sample_rate_hz": fs, "samples": len(x)}
+    for (name, window, seg, overlap, detrend, average) in WELCH_CASES:
+        x, fs = inputs[name]
+        case = {"input": name, "window": window, "segment_len": seg, "overlap_frac": overlap,
+                "detrend": detrend, "average": average,
+                "call": "scipy.signal.welch(x, fs, window=<periodic array>, nperseg, noverlap=floor(overlap*nperseg), detrend, average)"}
+        case.update(welch_case(x, fs, window, seg, overlap, detrend, average))
+        doc["welch"].append(case)
+    for name, max_lag in ACF_CASES:
+        x, _ = inputs[name]
+        case = {"input": name, "max_lag_len": max_lag}
+        case.update(acf_case(x, max_lag))
+        doc["acf"].append(case)
+    for dof in [1.0, 2.0, 3.891892, 10.0, 19.047619, 58.836735, 100.0, 465.9]:
+        for level in [0.9, 0.95, 0.99]:
+            a = 1 - level
+            doc["chi2"].append({"dof": dof, "level": level,
+                                "ppf_low": float(stats.chi2.ppf(a / 2, dof)),
+                                "ppf_high": float(stats.chi2.ppf(1 - a / 2, dof))})
+    with open(os.path.join(folder, "vectors.json"), "w") as fh:
+        json.dump(doc, fh, indent=0, sort_keys=True)
+        fh.write("\n")
+
+
+if __name__ == "__main__":
+    main()
