@@ -3,12 +3,17 @@
 //! # Method
 //! Sums of x − c and (x − c)² with c the first sample (the "shifted data" algorithm, which keeps
 //! the variance accurate under a large DC offset: Chan, Golub & LeVeque, "Algorithms for
-//! computing the sample variance", Am. Stat. 37(3), 1983, eq. 1.7), summed per block first so
-//! rounding grows with (block + N/block) rather than N. Variance and mean square use 1/N: they
+//! computing the sample variance", Am. Stat. 37(3), 1983, eq. 1.7), summed over fixed stretches of
+//! 4096 samples first so rounding grows with (4096 + N/4096) rather than N, and the result is
+//! the same however the caller cuts the record into blocks. Variance and mean square use 1/N: they
 //! are the AC power and total power of the record, R(0) of the autocovariance and
 //! autocorrelation (Bendat & Piersol, *Random Data*, 4th ed. 2010, §1.3 and eq. 5.6, from memory).
 
 use serde::Serialize;
+
+/// Samples per partial sum. Partial sums cover fixed stretches of the record, so the result
+/// does not depend on how the caller cut it into blocks.
+const PARTIAL_LEN: u64 = 4096;
 
 /// Running sums of a record.
 #[derive(Debug, Clone, Default)]
@@ -17,6 +22,8 @@ pub struct MomentsAccumulator {
     count: u64,
     sum: f64,
     sum_of_squares: f64,
+    partial_sum: f64,
+    partial_sum_of_squares: f64,
     min: f64,
     max: f64,
     clip_low: f64,
@@ -73,25 +80,38 @@ impl MomentsAccumulator {
             return;
         };
         let c = *self.offset.get_or_insert(first);
-        let mut sum = 0.0;
-        let mut sum_sq = 0.0;
-        let mut min = self.min;
-        let mut max = self.max;
-        let mut clipped = 0;
-        for &x in samples {
-            let y = x - c;
-            sum += y;
-            sum_sq += y * y;
-            min = min.min(x);
-            max = max.max(x);
-            clipped += u64::from(x <= self.clip_low || x >= self.clip_high);
+        let mut rest = samples;
+        while !rest.is_empty() {
+            let room = (PARTIAL_LEN - self.count % PARTIAL_LEN) as usize;
+            let (now, later) = rest.split_at(room.min(rest.len()));
+            let mut sum = self.partial_sum;
+            let mut sum_sq = self.partial_sum_of_squares;
+            let mut min = self.min;
+            let mut max = self.max;
+            let mut clipped = 0;
+            for &x in now {
+                let y = x - c;
+                sum += y;
+                sum_sq += y * y;
+                min = min.min(x);
+                max = max.max(x);
+                clipped += u64::from(x <= self.clip_low || x >= self.clip_high);
+            }
+            self.min = min;
+            self.max = max;
+            self.clipped += clipped;
+            self.count += now.len() as u64;
+            if self.count % PARTIAL_LEN == 0 {
+                self.sum += sum;
+                self.sum_of_squares += sum_sq;
+                self.partial_sum = 0.0;
+                self.partial_sum_of_squares = 0.0;
+            } else {
+                self.partial_sum = sum;
+                self.partial_sum_of_squares = sum_sq;
+            }
+            rest = later;
         }
-        self.sum += sum;
-        self.sum_of_squares += sum_sq;
-        self.min = min;
-        self.max = max;
-        self.clipped += clipped;
-        self.count += samples.len() as u64;
     }
 
     /// Samples seen.
@@ -115,9 +135,11 @@ impl MomentsAccumulator {
         }
         let n = self.count as f64;
         let c = self.offset.unwrap_or(0.0);
-        let shift_mean = self.sum / n;
+        let shift_mean = (self.sum + self.partial_sum) / n;
         let mean = c + shift_mean;
-        let variance = (self.sum_of_squares / n - shift_mean * shift_mean).max(0.0);
+        let variance = ((self.sum_of_squares + self.partial_sum_of_squares) / n
+            - shift_mean * shift_mean)
+            .max(0.0);
         let dc_power = mean * mean;
         let mean_square = variance + dc_power;
         let rms = mean_square.sqrt();

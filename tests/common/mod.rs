@@ -1,6 +1,8 @@
 //! Helpers shared by the integration tests: the scipy/numpy reference vectors.
 #![allow(dead_code)]
 
+pub mod noise;
+
 use std::path::PathBuf;
 
 use serde_json::Value;

@@ -1,1 +1,524 @@
-fn main() {}
+//! Project automation behind `cargo xtask TASK` (see `.cargo/config.toml`).
+//!
+//! Tasks:
+//! - `test`  — everything CI checks, in order, stopping at the first failure.
+//! - `serve` — builds the release CLI and shows its analysis of the demo recording.
+//! - `bench` — builds the streaming benchmark example and runs `xtask/bench.py`.
+//! - `help`  — lists the tasks.
+//!
+//! Invariants: std only (no dependencies, so this builds in seconds on a clean machine); every
+//! command runs in the workspace root and is printed before it runs (`==> …`); any install a
+//! clean machine needs (wasm target, Python packages) happens here, so CI and a newcomer run
+//! the same thing.
+
+use std::env;
+use std::ffi::OsString;
+use std::fmt;
+use std::fs;
+use std::path::{Path, PathBuf};
+use std::process::{Command, ExitCode};
+
+/// Rust target of the browser build.
+const WASM_TARGET: &str = "wasm32-unknown-unknown";
+/// Rustup components the lint steps need.
+const RUST_COMPONENTS: [&str; 2] = ["rustfmt", "clippy"];
+/// Pinned Python packages for the reference vectors and the end-to-end tests.
+const PY_REQUIREMENTS: &str = "tests/requirements.txt";
+/// Folder of the CLI's end-to-end tests (written alongside the CLI).
+const PY_E2E_DIR: &str = "tests/python";
+/// pytest's exit status when it collected no test.
+const PYTEST_NO_TESTS_COLLECTED: i32 = 5;
+/// Demo recording that `serve` analyses, with its calibration.
+const DEMO_RECORDING: &str = "demo-data/preamp-shorted-input-24bit-48000hz-mono.wav";
+const DEMO_SCALE_UNITS_PER_FS: &str = "2.0";
+const DEMO_UNIT: &str = "V";
+
+const HELP: &str = "\
+usage: cargo xtask TASK
+
+tasks:
+  test   run every check CI runs: toolchain and Python setup, rustfmt, clippy,
+         cargo test, reference-vector regeneration, wasm32 core build, CLI end-to-end tests
+  serve  build the release CLI and analyse the demo recording
+         (the browser page is not built yet)
+  bench  build examples/bench.rs (release) and compare it with numpy/scipy via xtask/bench.py;
+         writes target/bench-results.md
+  help   show this text
+";
+
+/// Why a step stopped.
+#[derive(Debug)]
+struct Failure(String);
+
+impl fmt::Display for Failure {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&self.0)
+    }
+}
+
+type StepResult = Result<Outcome, Failure>;
+
+/// How a step that did not fail ended.
+enum Outcome {
+    Passed,
+    Skipped(String),
+}
+
+/// The workspace and the tools found in it.
+struct Ctx {
+    root: PathBuf,
+    cargo: OsString,
+}
+
+impl Ctx {
+    fn new() -> Self {
+        let manifest_dir = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
+        let root = manifest_dir
+            .parent()
+            .map(Path::to_path_buf)
+            .unwrap_or(manifest_dir);
+        // Under `cargo run`, CARGO names the cargo that started us (same toolchain).
+        let cargo = env::var_os("CARGO").unwrap_or_else(|| OsString::from("cargo"));
+        Self { root, cargo }
+    }
+
+    fn cargo(&self, args: &[&str]) -> Cmd {
+        Cmd::new(&self.root, self.cargo.clone(), "cargo", args)
+    }
+
+    fn tool(&self, program: &str, args: &[&str]) -> Cmd {
+        Cmd::new(&self.root, OsString::from(program), program, args)
+    }
+
+    fn release_cli(&self) -> PathBuf {
+        self.root.join("target/release/noisesonde")
+    }
+}
+
+/// One external command, printed before it runs.
+struct Cmd {
+    command: Command,
+    shown: String,
+}
+
+impl Cmd {
+    fn new(root: &Path, program: OsString, shown_program: &str, args: &[&str]) -> Self {
+        let mut command = Command::new(program);
+        command.args(args).current_dir(root);
+        let mut shown = String::from(shown_program);
+        for arg in args {
+            shown.push(' ');
+            shown.push_str(arg);
+        }
+        Self { command, shown }
+    }
+
+    fn arg(mut self, arg: impl AsRef<std::ffi::OsStr>) -> Self {
+        let arg = arg.as_ref();
+        self.shown.push(' ');
+        self.shown.push_str(&arg.to_string_lossy());
+        self.command.arg(arg);
+        self
+    }
+
+    fn env(mut self, key: &str, value: impl AsRef<std::ffi::OsStr>) -> Self {
+        let value = value.as_ref();
+        self.shown = format!("{key}={} {}", value.to_string_lossy(), self.shown);
+        self.command.env(key, value);
+        self
+    }
+
+    /// Runs with inherited stdio; fails on a non-zero exit or a spawn error.
+    fn run(mut self) -> Result<(), Failure> {
+        println!("==> {}", self.shown);
+        match self.command.status() {
+            Ok(status) if status.success() => Ok(()),
+            Ok(status) => Err(Failure(format!("`{}` exited with {status}", self.shown))),
+            Err(err) => Err(Failure(format!("could not start `{}`: {err}", self.shown))),
+        }
+    }
+
+    /// Runs with inherited stdio and returns the exit code (None when killed by a signal).
+    fn run_code(mut self) -> Result<Option<i32>, Failure> {
+        println!("==> {}", self.shown);
+        self.command
+            .status()
+            .map(|status| status.code())
+            .map_err(|err| Failure(format!("could not start `{}`: {err}", self.shown)))
+    }
+
+    /// Runs quietly (a probe, not a step): stdout on success, None on failure or spawn error.
+    fn probe(mut self) -> Option<String> {
+        let output = self.command.output().ok()?;
+        output
+            .status
+            .success()
+            .then(|| String::from_utf8_lossy(&output.stdout).into_owned())
+    }
+}
+
+type Step = (&'static str, fn(&Ctx) -> StepResult);
+
+/// Runs steps in order, stopping at the first failure; prints a closing count line.
+fn run_steps(task: &str, ctx: &Ctx, steps: &[Step]) -> ExitCode {
+    let (mut passed, mut skipped) = (0, 0);
+    for (name, step) in steps {
+        println!("\n=== {task}: {name}");
+        match step(ctx) {
+            Ok(Outcome::Passed) => passed += 1,
+            Ok(Outcome::Skipped(why)) => {
+                println!("--- skipped {name}: {why}");
+                skipped += 1;
+            }
+            Err(failure) => {
+                eprintln!("\nxtask {task}: FAILED at step \"{name}\": {failure}");
+                println!(
+                    "xtask {task}: {passed} passed, 1 failed{}",
+                    skipped_note(skipped)
+                );
+                return ExitCode::FAILURE;
+            }
+        }
+    }
+    println!(
+        "\nxtask {task}: {passed} passed, 0 failed{}",
+        skipped_note(skipped)
+    );
+    ExitCode::SUCCESS
+}
+
+fn skipped_note(skipped: usize) -> String {
+    if skipped == 0 {
+        String::new()
+    } else {
+        format!(", {skipped} skipped")
+    }
+}
+
+fn main() -> ExitCode {
+    let args: Vec<String> = env::args().skip(1).collect();
+    let ctx = Ctx::new();
+    match args.first().map(String::as_str) {
+        Some("test") if args.len() == 1 => run_steps("test", &ctx, TEST_STEPS),
+        Some("serve") if args.len() == 1 => run_steps("serve", &ctx, SERVE_STEPS),
+        Some("bench") if args.len() == 1 => run_steps("bench", &ctx, BENCH_STEPS),
+        Some("help" | "-h" | "--help") => {
+            print!("{HELP}");
+            ExitCode::SUCCESS
+        }
+        None => {
+            eprint!("xtask: no task given\n\n{HELP}");
+            ExitCode::FAILURE
+        }
+        Some(_) => {
+            eprint!(
+                "xtask: unknown task or extra arguments: {}\n\n{HELP}",
+                args.join(" ")
+            );
+            ExitCode::FAILURE
+        }
+    }
+}
+
+// ---------------------------------------------------------------- test
+
+const TEST_STEPS: &[Step] = &[
+    (
+        "rust toolchain (rustfmt, clippy, wasm32 target)",
+        ensure_rust_toolchain,
+    ),
+    (
+        "python packages (tests/requirements.txt)",
+        ensure_python_deps,
+    ),
+    ("cargo fmt --check", fmt_check),
+    ("cargo clippy", clippy),
+    ("cargo test", cargo_test),
+    (
+        "reference vectors regenerate and compare",
+        reference_vectors,
+    ),
+    ("wasm32 core build without the CLI", wasm_core_build),
+    ("CLI end-to-end tests (pytest)", cli_end_to_end),
+];
+
+/// Adds the rustup components and the wasm32 target when missing (no-op when present).
+/// Without rustup (a distribution toolchain), it checks nothing and leaves failures to the
+/// steps that need them.
+fn ensure_rust_toolchain(ctx: &Ctx) -> StepResult {
+    let Some(components) = ctx
+        .tool("rustup", &["component", "list", "--installed"])
+        .probe()
+    else {
+        return Ok(Outcome::Skipped(
+            "rustup not found; using the toolchain on PATH as it is".into(),
+        ));
+    };
+    let missing: Vec<&str> = RUST_COMPONENTS
+        .iter()
+        .copied()
+        .filter(|name| !components.lines().any(|line| line.starts_with(name)))
+        .collect();
+    if missing.is_empty() {
+        println!("rustup components present: {}", RUST_COMPONENTS.join(", "));
+    } else {
+        let mut args = vec!["component", "add"];
+        args.extend(&missing);
+        ctx.tool("rustup", &args).run()?;
+    }
+    let targets = ctx
+        .tool("rustup", &["target", "list", "--installed"])
+        .probe()
+        .unwrap_or_default();
+    if targets.lines().any(|line| line.trim() == WASM_TARGET) {
+        println!("rustup target present: {WASM_TARGET}");
+    } else {
+        ctx.tool("rustup", &["target", "add", WASM_TARGET]).run()?;
+    }
+    Ok(Outcome::Passed)
+}
+
+/// Pinned `name==version` lines of the requirements file.
+fn pinned_requirements(ctx: &Ctx) -> Result<Vec<(String, String)>, Failure> {
+    let path = ctx.root.join(PY_REQUIREMENTS);
+    let text = fs::read_to_string(&path)
+        .map_err(|err| Failure(format!("cannot read {}: {err}", path.display())))?;
+    let mut pins = Vec::new();
+    for line in text.lines() {
+        let line = line.split('#').next().unwrap_or("").trim();
+        if line.is_empty() {
+            continue;
+        }
+        let Some((name, version)) = line.split_once("==") else {
+            return Err(Failure(format!(
+                "{PY_REQUIREMENTS}: `{line}` is not pinned as name==version"
+            )));
+        };
+        pins.push((name.trim().to_string(), version.trim().to_string()));
+    }
+    Ok(pins)
+}
+
+/// The installed versions of the pinned packages, or why they could not be read.
+fn installed_python_versions(ctx: &Ctx, pins: &[(String, String)]) -> Result<Vec<String>, String> {
+    let modules: Vec<String> = pins
+        .iter()
+        .map(|(name, _)| name.to_ascii_lowercase().replace('-', "_"))
+        .collect();
+    let script = format!(
+        "import {}\nprint({})",
+        modules.join(", "),
+        modules
+            .iter()
+            .map(|m| format!("{m}.__version__"))
+            .collect::<Vec<_>>()
+            .join(", ")
+    );
+    ctx.tool("python3", &["-c", &script])
+        .probe()
+        .map(|out| out.split_whitespace().map(str::to_string).collect())
+        .ok_or_else(|| format!("python3 cannot import {}", modules.join(", ")))
+}
+
+fn python_deps_mismatch(ctx: &Ctx, pins: &[(String, String)]) -> Option<String> {
+    match installed_python_versions(ctx, pins) {
+        Err(why) => Some(why),
+        Ok(found) => {
+            let wrong: Vec<String> = pins
+                .iter()
+                .zip(found.iter().map(Some).chain(std::iter::repeat(None)))
+                .filter(|((_, want), got)| got.map(String::as_str) != Some(want.as_str()))
+                .map(|((name, want), got)| {
+                    format!("{name} {} (want {want})", got.map_or("?", |g| g.as_str()))
+                })
+                .collect();
+            (!wrong.is_empty()).then(|| format!("version mismatch: {}", wrong.join(", ")))
+        }
+    }
+}
+
+/// Installs the pinned Python packages unless exactly those versions are importable.
+fn ensure_python_deps(ctx: &Ctx) -> StepResult {
+    let pins = pinned_requirements(ctx)?;
+    let shown: Vec<String> = pins.iter().map(|(n, v)| format!("{n}=={v}")).collect();
+    match python_deps_mismatch(ctx, &pins) {
+        None => println!("python packages present: {}", shown.join(" ")),
+        Some(why) => {
+            println!("{why}; installing {PY_REQUIREMENTS}");
+            ctx.tool(
+                "python3",
+                &[
+                    "-m",
+                    "pip",
+                    "install",
+                    "--quiet",
+                    "--disable-pip-version-check",
+                    "-r",
+                    PY_REQUIREMENTS,
+                ],
+            )
+            .run()?;
+            if let Some(why) = python_deps_mismatch(ctx, &pins) {
+                return Err(Failure(format!("after pip install: {why}")));
+            }
+            println!("python packages now: {}", shown.join(" "));
+        }
+    }
+    Ok(Outcome::Passed)
+}
+
+fn fmt_check(ctx: &Ctx) -> StepResult {
+    ctx.cargo(&["fmt", "--all", "--", "--check"])
+        .run()
+        .map_err(|f| Failure(format!("{f} (run `cargo fmt --all` to fix)")))?;
+    Ok(Outcome::Passed)
+}
+
+fn clippy(ctx: &Ctx) -> StepResult {
+    ctx.cargo(&[
+        "clippy",
+        "--workspace",
+        "--all-targets",
+        "--",
+        "-D",
+        "warnings",
+    ])
+    .run()?;
+    Ok(Outcome::Passed)
+}
+
+fn cargo_test(ctx: &Ctx) -> StepResult {
+    ctx.cargo(&["test", "--workspace"]).run()?;
+    Ok(Outcome::Passed)
+}
+
+/// Regenerates the reference vectors with the pinned numpy/scipy into a temporary folder and
+/// compares them with the committed copy.
+fn reference_vectors(ctx: &Ctx) -> StepResult {
+    let dir = env::temp_dir().join(format!("noisesonde-reference-{}", std::process::id()));
+    if dir.exists() {
+        fs::remove_dir_all(&dir)
+            .map_err(|err| Failure(format!("cannot clear {}: {err}", dir.display())))?;
+    }
+    fs::create_dir_all(&dir)
+        .map_err(|err| Failure(format!("cannot create {}: {err}", dir.display())))?;
+    let result = ctx
+        .tool("python3", &["tests/reference/generate.py"])
+        .arg(&dir)
+        .run()
+        .and_then(|()| {
+            ctx.tool(
+                "python3",
+                &["tests/reference/compare.py", "tests/reference"],
+            )
+            .arg(&dir)
+            .run()
+        });
+    // Keep the regenerated files when they differ, so they can be inspected.
+    match result {
+        Ok(()) => {
+            let _ = fs::remove_dir_all(&dir);
+            Ok(Outcome::Passed)
+        }
+        Err(f) => Err(Failure(format!(
+            "{f}; regenerated files kept in {}",
+            dir.display()
+        ))),
+    }
+}
+
+fn wasm_core_build(ctx: &Ctx) -> StepResult {
+    ctx.cargo(&[
+        "build",
+        "--lib",
+        "--no-default-features",
+        "--target",
+        WASM_TARGET,
+    ])
+    .run()?;
+    Ok(Outcome::Passed)
+}
+
+fn build_release_cli(ctx: &Ctx) -> Result<PathBuf, Failure> {
+    ctx.cargo(&["build", "--release", "--bin", "noisesonde"])
+        .run()?;
+    let bin = ctx.release_cli();
+    if !bin.is_file() {
+        return Err(Failure(format!("{} was not built", bin.display())));
+    }
+    Ok(bin)
+}
+
+/// Builds the release CLI and runs the end-to-end pytest suite against it.
+fn cli_end_to_end(ctx: &Ctx) -> StepResult {
+    if !ctx.root.join(PY_E2E_DIR).is_dir() {
+        return Ok(Outcome::Skipped(format!(
+            "{PY_E2E_DIR}/ does not exist yet; no CLI end-to-end tests to run"
+        )));
+    }
+    let bin = build_release_cli(ctx)?;
+    let code = ctx
+        .tool("python3", &["-m", "pytest", PY_E2E_DIR, "-q"])
+        .env("NOISESONDE_BIN", &bin)
+        .run_code()?;
+    match code {
+        Some(0) => Ok(Outcome::Passed),
+        Some(PYTEST_NO_TESTS_COLLECTED) => Err(Failure(format!(
+            "pytest collected no tests in {PY_E2E_DIR}/ (exit {PYTEST_NO_TESTS_COLLECTED})"
+        ))),
+        Some(code) => Err(Failure(format!("pytest exited with {code}"))),
+        None => Err(Failure("pytest was killed by a signal".into())),
+    }
+}
+
+// ---------------------------------------------------------------- serve
+
+// Later: append steps that build the wasm package and serve `www/` on 127.0.0.1.
+const SERVE_STEPS: &[Step] = &[
+    ("release CLI on the demo recording", demo_analysis),
+    ("browser page", browser_page),
+];
+
+fn demo_analysis(ctx: &Ctx) -> StepResult {
+    let bin = build_release_cli(ctx)?;
+    Cmd::new(
+        &ctx.root,
+        bin.clone().into_os_string(),
+        "target/release/noisesonde",
+        &[],
+    )
+    .arg("analyze")
+    .arg(DEMO_RECORDING)
+    .arg("--scale")
+    .arg(DEMO_SCALE_UNITS_PER_FS)
+    .arg("--unit")
+    .arg(DEMO_UNIT)
+    .run()?;
+    Ok(Outcome::Passed)
+}
+
+fn browser_page(_ctx: &Ctx) -> StepResult {
+    Ok(Outcome::Skipped(
+        "the browser page is not built yet (it lands in a later issue); nothing is served".into(),
+    ))
+}
+
+// ---------------------------------------------------------------- bench
+
+const BENCH_STEPS: &[Step] = &[
+    (
+        "python packages (tests/requirements.txt)",
+        ensure_python_deps,
+    ),
+    ("benchmark (release example vs numpy/scipy)", bench),
+];
+
+fn bench(ctx: &Ctx) -> StepResult {
+    ctx.cargo(&["build", "--release", "--example", "bench"])
+        .run()?;
+    let bin = ctx.root.join("target/release/examples/bench");
+    ctx.tool("python3", &["xtask/bench.py", "--bin"])
+        .arg(&bin)
+        .run()?;
+    Ok(Outcome::Passed)
+}
