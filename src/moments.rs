@@ -101,7 +101,7 @@ impl MomentsAccumulator {
             self.max = max;
             self.clipped += clipped;
             self.count += now.len() as u64;
-            if self.count % PARTIAL_LEN == 0 {
+            if self.count.is_multiple_of(PARTIAL_LEN) {
                 self.sum += sum;
                 self.sum_of_squares += sum_sq;
                 self.partial_sum = 0.0;
