@@ -268,9 +268,14 @@ fn summary(r: &Report) -> String {
         "{}: {}, channel {} of {}, {} Hz",
         src.name, src.format, r.channel, src.channels, r.sample_rate_hz
     );
+    let per = if src.full_scale {
+        "digital full scale"
+    } else {
+        "input unit"
+    };
     let _ = writeln!(
         s,
-        "  {} samples, {:.6} s; unit {} ({} {} per input unit)",
+        "  {} samples, {:.6} s; unit {} ({} {} per {per})",
         r.samples, r.duration_s, r.unit, r.calibration.scale_units_per_fs, r.unit
     );
     let _ = writeln!(s, "Lab quantities");
@@ -297,7 +302,12 @@ fn summary(r: &Report) -> String {
         &u.power,
     );
     row(&mut s, "variance (AC power, C(0))", m.variance, &u.power);
-    row(&mut s, "mean² (DC power)", m.dc_power, &u.power);
+    row(
+        &mut s,
+        "square of the mean (DC power)",
+        m.dc_power,
+        &u.power,
+    );
     row(&mut s, "minimum", m.min, &u.amplitude);
     row(&mut s, "maximum", m.max, &u.amplitude);
     if let Some(cf) = m.crest_factor {
