@@ -5,6 +5,8 @@
 //! - `serve` — builds the release CLI and shows its analysis of the demo recording.
 //! - `bench` — builds the streaming benchmark example and runs `xtask/bench.py`.
 //! - `help`  — lists the tasks.
+//! - `measure REPORT -- PROGRAM ARGS…` — internal, for `bench.py`: runs one program and writes its
+//!   wall time and peak resident memory to REPORT (see [`measure`]).
 //!
 //! Invariants: std only (no dependencies, so this builds in seconds on a clean machine); every
 //! command runs in the workspace root and is printed before it runs (`==> …`); any install a
@@ -44,6 +46,9 @@ tasks:
   bench  build examples/bench.rs (release) and compare it with numpy/scipy via xtask/bench.py;
          writes target/bench-results.md
   help   show this text
+
+internal (used by xtask/bench.py):
+  measure REPORT -- PROGRAM ARGS...   run PROGRAM, write its wall time and peak RSS to REPORT
 ";
 
 /// Why a step stopped.
@@ -133,7 +138,7 @@ impl Cmd {
         println!("==> {}", self.shown);
         match self.command.status() {
             Ok(status) if status.success() => Ok(()),
-            Ok(status) => Err(Failure(format!("`{}` exited with {status}", self.shown))),
+            Ok(status) => Err(Failure(format!("`{}` failed ({status})", self.shown))),
             Err(err) => Err(Failure(format!("could not start `{}`: {err}", self.shown))),
         }
     }
@@ -173,7 +178,7 @@ fn run_steps(task: &str, ctx: &Ctx, steps: &[Step]) -> ExitCode {
             Err(failure) => {
                 eprintln!("\nxtask {task}: FAILED at step \"{name}\": {failure}");
                 println!(
-                    "xtask {task}: {passed} passed, 1 failed{}",
+                    "xtask-{task}: {passed} passed, 1 failed{}",
                     skipped_note(skipped)
                 );
                 return ExitCode::FAILURE;
@@ -181,7 +186,7 @@ fn run_steps(task: &str, ctx: &Ctx, steps: &[Step]) -> ExitCode {
         }
     }
     println!(
-        "\nxtask {task}: {passed} passed, 0 failed{}",
+        "\nxtask-{task}: {passed} passed, 0 failed{}",
         skipped_note(skipped)
     );
     ExitCode::SUCCESS
@@ -202,6 +207,7 @@ fn main() -> ExitCode {
         Some("test") if args.len() == 1 => run_steps("test", &ctx, TEST_STEPS),
         Some("serve") if args.len() == 1 => run_steps("serve", &ctx, SERVE_STEPS),
         Some("bench") if args.len() == 1 => run_steps("bench", &ctx, BENCH_STEPS),
+        Some("measure") => measure(&args[1..]),
         Some("help" | "-h" | "--help") => {
             print!("{HELP}");
             ExitCode::SUCCESS
@@ -517,8 +523,132 @@ fn bench(ctx: &Ctx) -> StepResult {
     ctx.cargo(&["build", "--release", "--example", "bench"])
         .run()?;
     let bin = ctx.root.join("target/release/examples/bench");
+    // This executable doubles as the small launcher that measures each run (`xtask measure`).
+    let launcher = env::current_exe()
+        .map_err(|err| Failure(format!("cannot locate the xtask executable: {err}")))?;
     ctx.tool("python3", &["xtask/bench.py", "--bin"])
         .arg(&bin)
+        .arg("--launcher")
+        .arg(&launcher)
         .run()?;
     Ok(Outcome::Passed)
+}
+
+// ---------------------------------------------------------------- measure
+
+/// `measure REPORT -- PROGRAM ARGS…`: runs PROGRAM with inherited stdio, reaps it with `wait4`
+/// and writes one JSON line to REPORT:
+/// `{"exit_code":…,"signal":…,"wall_s":…,"maxrss_kib":…,"launcher_hwm_kib":…}`.
+/// Exits with PROGRAM's exit code (1 when it was killed by a signal).
+///
+/// Why a launcher: Linux folds the resident-set high-water mark of the memory a process had
+/// before `exec` into its `ru_maxrss`; a child spawned straight from the benchmark's Python
+/// process (numpy loaded) therefore reports at least that process's size. Spawned from this
+/// small process instead, a child's `ru_maxrss` is its own peak, or at most this launcher's
+/// own high-water mark (`launcher_hwm_kib`, reported as the measurement floor).
+fn measure(args: &[String]) -> ExitCode {
+    let (report, program, program_args) = match args {
+        [report, dashdash, program, rest @ ..] if dashdash == "--" => (report, program, rest),
+        _ => {
+            eprintln!("xtask measure: usage: measure REPORT -- PROGRAM ARGS...");
+            return ExitCode::from(2);
+        }
+    };
+    match measure_run(program, program_args) {
+        Ok(reaped) => {
+            let launcher_hwm_kib =
+                own_high_water_kib().map_or_else(|| "null".to_string(), |kib| kib.to_string());
+            let line = format!(
+                "{{\"exit_code\":{},\"signal\":{},\"wall_s\":{:.6},\"maxrss_kib\":{},\"launcher_hwm_kib\":{}}}\n",
+                reaped.exit_code.map_or("null".into(), |c| c.to_string()),
+                reaped.signal.map_or("null".into(), |s| s.to_string()),
+                reaped.wall_s,
+                reaped.maxrss_kib,
+                launcher_hwm_kib,
+            );
+            if let Err(err) = fs::write(report, line) {
+                eprintln!("xtask measure: cannot write {report}: {err}");
+                return ExitCode::FAILURE;
+            }
+            match reaped.exit_code {
+                Some(code) => ExitCode::from(u8::try_from(code).unwrap_or(1)),
+                None => ExitCode::FAILURE,
+            }
+        }
+        Err(message) => {
+            eprintln!("xtask measure: {message}");
+            ExitCode::FAILURE
+        }
+    }
+}
+
+/// This process's resident-set high-water mark (`VmHWM` of /proc/self/status), in KiB.
+fn own_high_water_kib() -> Option<u64> {
+    let status = fs::read_to_string("/proc/self/status").ok()?;
+    let line = status.lines().find(|line| line.starts_with("VmHWM:"))?;
+    line.split_whitespace().nth(1)?.parse().ok()
+}
+
+struct Reaped {
+    exit_code: Option<i32>,
+    signal: Option<i32>,
+    wall_s: f64,
+    maxrss_kib: i64,
+}
+
+#[cfg(all(target_os = "linux", target_pointer_width = "64"))]
+fn measure_run(program: &str, args: &[String]) -> Result<Reaped, String> {
+    use std::os::raw::{c_int, c_long};
+    use std::os::unix::process::ExitStatusExt;
+    use std::time::Instant;
+
+    /// `struct rusage` of Linux on 64-bit targets: two `struct timeval` (two longs each),
+    /// then fourteen longs, the first of which is `ru_maxrss` in KiB (getrusage(2)).
+    #[repr(C)]
+    #[derive(Default)]
+    struct Rusage {
+        utime: [c_long; 2],
+        stime: [c_long; 2],
+        maxrss: c_long,
+        rest: [c_long; 13],
+    }
+    extern "C" {
+        fn wait4(pid: c_int, status: *mut c_int, options: c_int, rusage: *mut Rusage) -> c_int;
+    }
+
+    let started = Instant::now();
+    let child = Command::new(program)
+        .args(args)
+        .spawn()
+        .map_err(|err| format!("cannot start {program}: {err}"))?;
+    let pid = c_int::try_from(child.id()).map_err(|_| "process id out of range".to_string())?;
+    let mut status: c_int = 0;
+    let mut usage = Rusage::default();
+    loop {
+        // SAFETY: `status` and `usage` are valid, exclusively borrowed and laid out as the
+        // kernel's `int` and `struct rusage`; `pid` is our own unreaped child.
+        let reaped = unsafe { wait4(pid, &mut status, 0, &mut usage) };
+        if reaped == pid {
+            break;
+        }
+        let err = std::io::Error::last_os_error();
+        if err.kind() != std::io::ErrorKind::Interrupted {
+            return Err(format!("wait4 failed: {err}"));
+        }
+    }
+    let wall_s = started.elapsed().as_secs_f64();
+    // The child is reaped; std's handle must not wait for it again (dropping it does not).
+    drop(child);
+    let exit = std::process::ExitStatus::from_raw(status);
+    Ok(Reaped {
+        exit_code: exit.code(),
+        signal: exit.signal(),
+        wall_s,
+        maxrss_kib: usage.maxrss, // c_long is i64 on 64-bit Linux
+    })
+}
+
+#[cfg(not(all(target_os = "linux", target_pointer_width = "64")))]
+fn measure_run(_program: &str, _args: &[String]) -> Result<Reaped, String> {
+    Err("measuring peak memory is implemented for 64-bit Linux only".into())
 }
