@@ -16,7 +16,7 @@
 use std::fs::File;
 use std::io::{self, BufReader, BufWriter, Read, Write};
 use std::process::ExitCode;
-use std::time::Instant;
+use std::time::{Duration, Instant};
 
 use noisesonde::acf::{Acf, AcfEstimator, AcfPlan};
 use noisesonde::spectral::{Welch, WelchPlan, WelchSettings};
@@ -33,6 +33,7 @@ const USAGE: &str = "usage: bench welch FILE [--sample-rate HZ] [--out PATH]\n  
 
 enum Task {
     Welch,
+    Read,
     Acf { max_lag_len: usize },
 }
 
@@ -65,12 +66,13 @@ fn parse_args(args: &[String]) -> Result<Options, String> {
     }
     let task = match positional.as_slice() {
         ["welch", _] => Task::Welch,
+        ["read", _] => Task::Read,
         ["acf", _, lag] => Task::Acf {
             max_lag_len: lag
                 .parse()
                 .map_err(|_| format!("MAX_LAG_LEN: `{lag}` is not a count of samples"))?,
         },
-        _ => return Err("expected `welch FILE` or `acf FILE MAX_LAG_LEN`".into()),
+        _ => return Err("expected `welch FILE`, `acf FILE MAX_LAG_LEN` or `read FILE`".into()),
     };
     Ok(Options {
         task,
@@ -147,25 +149,58 @@ fn run(options: &Options) -> Result<(), String> {
         Task::Welch => {
             let plan = WelchPlan::new(&WelchSettings::default()).map_err(|e| e.to_string())?;
             let mut welch = Welch::new(plan);
+            let mut estimating = Duration::ZERO;
             let samples = stream_samples(&mut reader, |block| {
-                welch.push(block).map_err(|e| e.to_string())
+                let t = Instant::now();
+                let pushed = welch.push(block).map_err(|e| e.to_string());
+                estimating += t.elapsed();
+                pushed
             })?;
+            let t = Instant::now();
             let result = welch
                 .finish(options.sample_rate_hz)
                 .ok_or("fewer samples than one segment")?;
-            let extra = format!(r#""segments":{}"#, result.segments);
+            estimating += t.elapsed();
+            let extra = format!(
+                r#""segments":{},"estimator_seconds":{:.6}"#,
+                result.segments,
+                estimating.as_secs_f64()
+            );
             ("welch", samples, result.density, extra)
+        }
+        Task::Read => {
+            // Reading and decoding alone: the floor under the other tasks' times.
+            let mut sum = 0.0;
+            let samples = stream_samples(&mut reader, |block| {
+                sum += block.iter().sum::<f64>();
+                Ok(())
+            })?;
+            (
+                "read",
+                samples,
+                vec![sum],
+                String::from(r#""reading":true"#),
+            )
         }
         Task::Acf { max_lag_len } => {
             let mut acf = Acf::new(AcfPlan::new(max_lag_len).map_err(|e| e.to_string())?);
+            let mut estimating = Duration::ZERO;
             let samples = stream_samples(&mut reader, |block| {
+                let t = Instant::now();
                 acf.push(block);
+                estimating += t.elapsed();
                 Ok(())
             })?;
+            let t = Instant::now();
             let result = acf
                 .finish(AcfEstimator::Biased)
                 .ok_or("fewer than two samples")?;
-            let extra = format!(r#""max_lag_len":{}"#, result.lag_len.len() - 1);
+            estimating += t.elapsed();
+            let extra = format!(
+                r#""max_lag_len":{},"estimator_seconds":{:.6}"#,
+                result.lag_len.len() - 1,
+                estimating.as_secs_f64()
+            );
             ("acf", samples, result.autocovariance, extra)
         }
     };

@@ -30,6 +30,7 @@ use realfft::{ComplexToReal, RealFftPlanner, RealToComplex};
 use serde::Serialize;
 
 use crate::error::SettingsError;
+use crate::numeric::sum_in_lanes;
 
 /// Smallest block length, so that short lags still get efficient FFTs.
 const MIN_BLOCK_LEN: usize = 4096;
@@ -200,10 +201,11 @@ impl Acf {
     /// Feeds samples. Allocates nothing.
     pub fn push(&mut self, mut samples: &[f64]) {
         let lags = self.plan.max_lag_len + 1;
-        for &x in samples {
-            if self.head.len() < lags {
-                self.head.push(x);
-            }
+        let head_room = lags - self.head.len();
+        self.head
+            .extend_from_slice(&samples[..head_room.min(samples.len())]);
+        // Only the last L+1 samples of a block can still be among the record's last L+1.
+        for &x in &samples[samples.len().saturating_sub(lags)..] {
             self.tail[self.tail_pos] = x;
             self.tail_pos = if self.tail_pos + 1 == lags {
                 0
@@ -229,13 +231,11 @@ impl Acf {
         let offset = *self
             .offset
             .get_or_insert_with(|| self.block[..filled].iter().sum::<f64>() / filled.max(1) as f64);
-        let mut sum = 0.0;
         for y in &mut self.block[..filled] {
             *y -= offset;
-            sum += *y;
         }
         self.block[filled..].fill(0.0);
-        self.sum_shifted += sum;
+        self.sum_shifted += sum_in_lanes(&self.block[..filled]);
         let done = self.plan.forward.process_with_scratch(
             &mut self.block,
             &mut self.current,

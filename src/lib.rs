@@ -13,6 +13,7 @@ pub mod analysis;
 pub mod error;
 pub mod io;
 pub mod moments;
+mod numeric;
 pub mod report;
 pub mod spectral;
 pub mod units;

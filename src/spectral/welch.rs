@@ -34,6 +34,7 @@ use crate::error::{AnalysisError, SettingsError};
 use crate::window::{WindowFigures, WindowKind};
 
 use super::confidence::welch_dof;
+use crate::numeric::sum_in_lanes;
 
 /// Default segment length in samples.
 pub const DEFAULT_SEGMENT_LEN: usize = 4096;
@@ -223,17 +224,111 @@ impl WelchPlan {
     }
 }
 
-/// Welch's estimator in progress: push samples, then [`Welch::finish`].
+/// Samples a batch of segments should span; batches are cut by segment index, so the grouping
+/// (and so the rounding of the sums) does not depend on how the caller cuts its blocks.
+const BATCH_TARGET_LEN: usize = 1 << 20;
+/// Most segments in one batch.
+const BATCH_MAX_SEGMENTS: usize = 256;
+/// Least work (segments × L) for which a batch's second half goes to another thread.
+#[cfg(not(target_arch = "wasm32"))]
+const THREAD_MIN_WORK: usize = 1 << 16;
+
+/// Per-thread buffers: one detrended, windowed segment, its spectrum, FFT scratch, and the
+/// sums of |X[k]|² over the segments it processed.
 #[derive(Clone)]
-pub struct Welch {
-    plan: WelchPlan,
-    /// Samples of the segment being filled; the first `filled` are valid.
-    pending: Vec<f64>,
-    filled: usize,
-    /// Detrended, windowed segment handed to the FFT.
+struct SegmentWorker {
     work: Vec<f64>,
     spectrum: Vec<Complex<f64>>,
     scratch: Vec<Complex<f64>>,
+    sum_power: Vec<f64>,
+    /// Every processed segment's |X[k]|² in order (median averaging only).
+    stored_power: Vec<f64>,
+}
+
+impl SegmentWorker {
+    fn new(plan: &WelchPlan) -> Self {
+        Self {
+            work: vec![0.0; plan.segment_len()],
+            spectrum: plan.fft.make_output_vec(),
+            scratch: plan.fft.make_scratch_vec(),
+            sum_power: vec![0.0; plan.bins()],
+            stored_power: Vec::new(),
+        }
+    }
+
+    /// Processes the segments starting at `starts` (offsets into `samples`) into fresh sums.
+    fn run(&mut self, plan: &WelchPlan, samples: &[f64], starts: std::ops::Range<usize>) {
+        self.sum_power.fill(0.0);
+        self.stored_power.clear();
+        let len = plan.segment_len();
+        for index in starts {
+            let start = index * plan.step_len();
+            self.segment(plan, &samples[start..start + len]);
+        }
+    }
+
+    fn segment(&mut self, plan: &WelchPlan, seg: &[f64]) {
+        let len = seg.len();
+        match plan.settings.detrend {
+            Detrend::None => {
+                for ((out, &x), &w) in self.work.iter_mut().zip(seg).zip(&plan.window) {
+                    *out = x * w;
+                }
+            }
+            Detrend::Mean => {
+                let mean = sum_in_lanes(seg) / len as f64;
+                for ((out, &x), &w) in self.work.iter_mut().zip(seg).zip(&plan.window) {
+                    *out = (x - mean) * w;
+                }
+            }
+            Detrend::Linear => {
+                // Least-squares line against the centred index t = n − (L−1)/2:
+                // intercept = mean, slope = Σ t x / Σ t², Σ t² = L(L²−1)/12.
+                let centre = (len as f64 - 1.0) / 2.0;
+                let mean = sum_in_lanes(seg) / len as f64;
+                let sum_tx: f64 = seg
+                    .iter()
+                    .enumerate()
+                    .map(|(n, &x)| (n as f64 - centre) * x)
+                    .sum();
+                let lf = len as f64;
+                let sum_tt = lf * (lf * lf - 1.0) / 12.0;
+                let slope = sum_tx / sum_tt;
+                for (n, ((out, &x), &w)) in
+                    self.work.iter_mut().zip(seg).zip(&plan.window).enumerate()
+                {
+                    *out = (x - mean - slope * (n as f64 - centre)) * w;
+                }
+            }
+        }
+        // Lengths are fixed by the plan, so the FFT cannot fail.
+        let transformed =
+            plan.fft
+                .process_with_scratch(&mut self.work, &mut self.spectrum, &mut self.scratch);
+        debug_assert!(transformed.is_ok());
+        for (acc, x) in self.sum_power.iter_mut().zip(&self.spectrum) {
+            *acc += x.norm_sqr();
+        }
+        if plan.settings.average == Average::Median {
+            self.stored_power
+                .extend(self.spectrum.iter().map(|x| x.norm_sqr()));
+        }
+    }
+}
+
+/// Welch's estimator in progress: push samples, then [`Welch::finish`].
+///
+/// Segments are processed in batches of up to 64 (fixed by segment index); each batch is
+/// split in two halves whose sums are added in order. Natively the second half runs on another
+/// thread when the batch is large enough; the sums, and so the results, are the same either way.
+#[derive(Clone)]
+pub struct Welch {
+    plan: WelchPlan,
+    /// Samples of the batch being filled; the first `filled` are valid.
+    pending: Vec<f64>,
+    filled: usize,
+    batch_segments: usize,
+    workers: [SegmentWorker; 2],
     /// Σ over segments of |X[k]|².
     sum_power: Vec<f64>,
     /// Every segment's |X[k]|², segment after segment (median averaging only).
@@ -276,17 +371,16 @@ pub struct WelchResult {
 impl Welch {
     /// A fresh estimator for `plan`.
     pub fn new(plan: WelchPlan) -> Self {
-        let segment_len = plan.segment_len();
-        let bins = plan.bins();
-        let spectrum = plan.fft.make_output_vec();
-        let scratch = plan.fft.make_scratch_vec();
+        let step = plan.step_len();
+        let batch_segments = (BATCH_TARGET_LEN / step).clamp(2, BATCH_MAX_SEGMENTS);
+        let batch_len = (batch_segments - 1) * step + plan.segment_len();
+        let worker = SegmentWorker::new(&plan);
         Self {
-            pending: vec![0.0; segment_len],
+            pending: vec![0.0; batch_len],
             filled: 0,
-            work: vec![0.0; segment_len],
-            spectrum,
-            scratch,
-            sum_power: vec![0.0; bins],
+            batch_segments,
+            workers: [worker.clone(), worker],
+            sum_power: vec![0.0; plan.bins()],
             stored_power: Vec::new(),
             segments: 0,
             plan,
@@ -303,92 +397,90 @@ impl Welch {
         self.segments
     }
 
-    /// Feeds samples; each completed segment is transformed at once. Allocates nothing
-    /// (except, with median averaging, to store each segment's periodogram).
+    /// Feeds samples; each completed batch of segments is transformed at once. Allocates
+    /// nothing (except, with median averaging, to store each segment's periodogram).
     ///
     /// # Errors
     /// [`AnalysisError::MedianTooLong`] when median averaging would store more than
     /// [`MEDIAN_MAX_VALUES`] values.
     pub fn push(&mut self, mut samples: &[f64]) -> Result<(), AnalysisError> {
-        let segment_len = self.plan.segment_len();
+        let batch_len = self.pending.len();
         while !samples.is_empty() {
-            let take = (segment_len - self.filled).min(samples.len());
+            let take = (batch_len - self.filled).min(samples.len());
             self.pending[self.filled..self.filled + take].copy_from_slice(&samples[..take]);
             self.filled += take;
             samples = &samples[take..];
-            if self.filled == segment_len {
-                self.process_segment()?;
-                let overlap = self.plan.overlap_len;
-                self.pending.copy_within(segment_len - overlap.., 0);
-                self.filled = overlap;
+            if self.filled == batch_len {
+                self.process_batch(self.batch_segments)?;
+                let next_start = self.batch_segments * self.plan.step_len();
+                self.pending.copy_within(next_start.., 0);
+                self.filled = batch_len - next_start;
             }
         }
         Ok(())
     }
 
-    fn process_segment(&mut self) -> Result<(), AnalysisError> {
+    /// Transforms the first `count` segments of `pending` and adds them to the sums.
+    fn process_batch(&mut self, count: usize) -> Result<(), AnalysisError> {
+        if count == 0 {
+            return Ok(());
+        }
+        let bins = self.plan.bins();
+        if self.plan.settings.average == Average::Median
+            && self.stored_power.len() + count * bins > MEDIAN_MAX_VALUES
+        {
+            return Err(AnalysisError::MedianTooLong {
+                segments: self.segments + count,
+                bins,
+                max_values: MEDIAN_MAX_VALUES,
+            });
+        }
+        let half = count / 2;
         let plan = &self.plan;
-        let seg = &self.pending;
-        let len = seg.len();
-        match plan.settings.detrend {
-            Detrend::None => {
-                for ((out, &x), &w) in self.work.iter_mut().zip(seg).zip(&plan.window) {
-                    *out = x * w;
-                }
-            }
-            Detrend::Mean => {
-                let mean = seg.iter().sum::<f64>() / len as f64;
-                for ((out, &x), &w) in self.work.iter_mut().zip(seg).zip(&plan.window) {
-                    *out = (x - mean) * w;
-                }
-            }
-            Detrend::Linear => {
-                // Least-squares line against the centred index t = n − (L−1)/2:
-                // intercept = mean, slope = Σ t x / Σ t², Σ t² = L(L²−1)/12.
-                let centre = (len as f64 - 1.0) / 2.0;
-                let mean = seg.iter().sum::<f64>() / len as f64;
-                let sum_tx: f64 = seg
-                    .iter()
-                    .enumerate()
-                    .map(|(n, &x)| (n as f64 - centre) * x)
-                    .sum();
-                let lf = len as f64;
-                let sum_tt = lf * (lf * lf - 1.0) / 12.0;
-                let slope = sum_tx / sum_tt;
-                for (n, ((out, &x), &w)) in
-                    self.work.iter_mut().zip(seg).zip(&plan.window).enumerate()
-                {
-                    *out = (x - mean - slope * (n as f64 - centre)) * w;
-                }
-            }
-        }
-        // Lengths are fixed by the plan, so the FFT cannot fail.
-        let transformed =
-            plan.fft
-                .process_with_scratch(&mut self.work, &mut self.spectrum, &mut self.scratch);
-        debug_assert!(transformed.is_ok());
-        for (acc, x) in self.sum_power.iter_mut().zip(&self.spectrum) {
-            *acc += x.norm_sqr();
-        }
-        if plan.settings.average == Average::Median {
-            let bins = self.spectrum.len();
-            if self.stored_power.len() + bins > MEDIAN_MAX_VALUES {
-                return Err(AnalysisError::MedianTooLong {
-                    segments: self.segments + 1,
-                    bins,
-                    max_values: MEDIAN_MAX_VALUES,
+        let samples = &self.pending[..];
+        let [first, second] = &mut self.workers;
+        #[cfg(not(target_arch = "wasm32"))]
+        {
+            if count * plan.segment_len() >= THREAD_MIN_WORK {
+                std::thread::scope(|scope| {
+                    scope.spawn(|| second.run(plan, samples, half..count));
+                    first.run(plan, samples, 0..half);
                 });
+            } else {
+                first.run(plan, samples, 0..half);
+                second.run(plan, samples, half..count);
             }
-            self.stored_power
-                .extend(self.spectrum.iter().map(|x| x.norm_sqr()));
         }
-        self.segments += 1;
+        #[cfg(target_arch = "wasm32")]
+        {
+            first.run(plan, samples, 0..half);
+            second.run(plan, samples, half..count);
+        }
+        for worker in &self.workers {
+            for (acc, s) in self.sum_power.iter_mut().zip(&worker.sum_power) {
+                *acc += s;
+            }
+            self.stored_power.extend_from_slice(&worker.stored_power);
+        }
+        self.segments += count;
         Ok(())
     }
 
     /// The averaged spectrum of the segments so far, scaled for `sample_rate_hz`.
-    /// Returns `None` before the first whole segment.
+    /// Returns `None` before the first whole segment. Leaves the estimator untouched, so
+    /// pushing may continue (live use).
     pub fn finish(&self, sample_rate_hz: f64) -> Option<WelchResult> {
+        let waiting = self.plan.segments_in(self.filled as u64) as usize;
+        if waiting > 0 {
+            let mut state = self.clone();
+            // The cap was checked for whole batches; a partial one may not exceed it either.
+            state.process_batch(waiting).ok()?;
+            return state.finish_processed(sample_rate_hz);
+        }
+        self.finish_processed(sample_rate_hz)
+    }
+
+    fn finish_processed(&self, sample_rate_hz: f64) -> Option<WelchResult> {
         if self.segments == 0 {
             return None;
         }
