@@ -119,6 +119,19 @@ impl AcfPlan {
 }
 
 /// The streaming correlator.
+///
+/// ```
+/// use noisesonde::acf::{Acf, AcfEstimator, AcfPlan};
+/// // 3 + (1, −1, 1, −1, …): mean 3, variance 1, mean square 10; the centred sequence
+/// // alternates, so C[k] = (−1)^k (N − k)/N with the biased estimator (by hand).
+/// let x: Vec<f64> = (0..1000).map(|n| 3.0 + if n % 2 == 0 { 1.0 } else { -1.0 }).collect();
+/// let mut acf = Acf::new(AcfPlan::new(4).unwrap());
+/// acf.push(&x);
+/// let r = acf.finish(AcfEstimator::Biased).unwrap();
+/// assert!((r.autocorrelation[0] - 10.0).abs() < 1e-12);
+/// assert!((r.autocovariance[1] + 0.999).abs() < 1e-12);
+/// assert!((r.autocovariance[4] - 0.996).abs() < 1e-12);
+/// ```
 #[derive(Clone)]
 pub struct Acf {
     plan: AcfPlan,

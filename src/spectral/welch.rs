@@ -318,6 +318,19 @@ impl SegmentWorker {
 
 /// Welch's estimator in progress: push samples, then [`Welch::finish`].
 ///
+/// ```
+/// use noisesonde::spectral::{Welch, WelchPlan, WelchSettings};
+/// // Alternating ±σ at every sample is a tone at Nyquist whose power σ² sits in the last bin
+/// // of the power spectrum (no doubling there), here with σ = 0.5.
+/// let x: Vec<f64> = (0..65_536).map(|n| if n % 2 == 0 { 0.5 } else { -0.5 }).collect();
+/// let mut welch = Welch::new(WelchPlan::new(&WelchSettings::default()).unwrap());
+/// welch.push(&x).unwrap();
+/// let r = welch.finish(1000.0).unwrap();
+/// let nyquist = *r.power_spectrum.last().unwrap();
+/// assert!((nyquist - 0.25).abs() < 1e-12); // mean square of ±0.5
+/// assert_eq!(r.segments, 31); // (65536 − 2048) / 2048
+/// ```
+///
 /// Segments are processed in batches of up to 64 (fixed by segment index); each batch is
 /// split in two halves whose sums are added in order. Natively the second half runs on another
 /// thread when the batch is large enough; the sums, and so the results, are the same either way.
