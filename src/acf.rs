@@ -27,7 +27,7 @@ use std::sync::Arc;
 
 use realfft::num_complex::Complex;
 use realfft::{ComplexToReal, RealFftPlanner, RealToComplex};
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use crate::error::SettingsError;
 use crate::numeric::sum_in_lanes;
@@ -38,7 +38,7 @@ const MIN_BLOCK_LEN: usize = 4096;
 pub const MAX_LAG_LEN: usize = 1 << 20;
 
 /// Normalisation of the lagged sums.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum AcfEstimator {
     /// Divide by N: positive semi-definite, R[0] = mean square (default).
@@ -164,7 +164,7 @@ impl fmt::Debug for Acf {
 }
 
 /// Lagged sums turned into estimates, in the squared units of the samples.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct AcfResult {
     /// Lags 0..=L in samples.
     pub lag_len: Vec<usize>,

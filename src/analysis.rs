@@ -4,7 +4,7 @@
 //! once from [`Settings`] and the source's [`SourceInfo`], [`Analyzer::push`] blocks of samples,
 //! and ask for a [`Report`] at the end (or at any moment, for a live view).
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use crate::acf::{Acf, AcfEstimator, AcfPlan};
 use crate::error::{AnalysisError, Error, SettingsError};
@@ -28,7 +28,9 @@ const FEW_SEGMENTS: usize = 8;
 const WK_WARN_DEVIATION: f64 = 0.1;
 
 /// Everything the user can choose; plain data with defaults, checked by [`Analyzer::new`].
-#[derive(Debug, Clone, PartialEq, Serialize)]
+/// Missing fields take their defaults when deserialised (the page sends only what it shows).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
 pub struct Settings {
     /// Welch PSD settings.
     pub welch: WelchSettings,
@@ -199,7 +201,7 @@ impl Analyzer {
         let parseval = Parseval {
             integrated_psd,
             time_domain,
-            compared_with,
+            compared_with: compared_with.to_string(),
             ratio: if time_domain > 0.0 {
                 integrated_psd / time_domain
             } else {
@@ -231,7 +233,8 @@ impl Analyzer {
                 "autocovariance"
             } else {
                 "autocorrelation"
-            },
+            }
+            .to_string(),
         };
 
         if let Some(clipped) = moments.clipped_samples.filter(|&c| c > 0) {
@@ -276,7 +279,7 @@ impl Analyzer {
             (segments_used - 1) * self.welch.plan().step_len() as u64 + segment_len as u64
         };
         Ok(Report {
-            schema: SCHEMA,
+            schema: SCHEMA.to_string(),
             source: self.source.clone(),
             sample_rate_hz: fs,
             samples: self.samples,

@@ -9,7 +9,7 @@
 //! are the AC power and total power of the record, R(0) of the autocovariance and
 //! autocorrelation (Bendat & Piersol, *Random Data*, 4th ed. 2010, §1.3 and eq. 5.6, from memory).
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 /// Samples per partial sum. Partial sums cover fixed stretches of the record, so the result
 /// does not depend on how the caller cut it into blocks.
@@ -33,7 +33,7 @@ pub struct MomentsAccumulator {
 }
 
 /// Moments of a record, with their meaning in a noise measurement.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Moments {
     /// Mean: the DC level.
     pub mean: f64,

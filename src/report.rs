@@ -1,7 +1,7 @@
 //! The report: plain data that every front end consumes. Field names carry units; the README
 //! documents each field.
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use crate::acf::AcfEstimator;
 use crate::io::SourceInfo;
@@ -14,10 +14,10 @@ use crate::window::WindowKind;
 pub const SCHEMA: &str = "noisesonde.report/1";
 
 /// Everything measured on one record.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Report {
     /// Layout version, [`SCHEMA`].
-    pub schema: &'static str,
+    pub schema: String,
     /// What was read.
     pub source: SourceInfo,
     /// Sample rate in hertz.
@@ -47,7 +47,7 @@ pub struct Report {
 }
 
 /// The PSD with everything needed to read it.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct PsdReport {
     /// Bin centre frequencies, Hz.
     pub frequency_hz: Vec<f64>,
@@ -94,7 +94,7 @@ pub struct PsdReport {
 }
 
 /// Autocorrelation against lag.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct AcfReport {
     /// Lags, s.
     pub lag_s: Vec<f64>,
@@ -127,7 +127,7 @@ pub fn first_crossing(coefficient: &[f64], level: f64) -> Option<f64> {
 }
 
 /// Cross-checks that the numbers hang together.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Checks {
     /// ∫PSD df against the time-domain power.
     pub parseval: Parseval,
@@ -136,26 +136,26 @@ pub struct Checks {
 }
 
 /// Parseval's theorem: the integrated one-sided density equals the power it came from.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Parseval {
     /// Σ density × bin_width_hz, `unit`².
     pub integrated_psd: f64,
     /// The time-domain power it is compared with, `unit`².
     pub time_domain: f64,
     /// `variance` (when segments are detrended) or `mean_square` (no detrend).
-    pub compared_with: &'static str,
+    pub compared_with: String,
     /// integrated_psd / time_domain (1 for a stationary record; 0 when the power is zero).
     pub ratio: f64,
 }
 
 /// Wiener–Khinchin: the inverse transform of the averaged PSD, corrected for the window's
 /// own correlation, against the directly computed ACF.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct WienerKhinchin {
     /// Largest |ACF_from_PSD[k] − ACF[k]| / ACF[0] over the lags compared.
     pub max_deviation: f64,
     /// Lags compared: 0..=this many samples (up to L/4 and the maximum lag).
     pub lags_compared: usize,
     /// `autocovariance` (detrended segments) or `autocorrelation` (no detrend).
-    pub compared_with: &'static str,
+    pub compared_with: String,
 }

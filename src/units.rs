@@ -3,7 +3,7 @@
 //! Inside the pipeline every quantity is in the calibrated unit U (SI where U is V, Pa, …):
 //! samples in U, powers in U², densities in U²/Hz. Decibels appear only at the edge.
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use crate::error::SettingsError;
 
@@ -15,7 +15,8 @@ pub const TEXT_UNIT: &str = "units";
 const MAX_UNIT_LEN: usize = 16;
 
 /// Turns full-scale (or text) samples into physical units.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
 pub struct Calibration {
     /// Physical value of one unit of input (for full-scale input: of digital full scale).
     pub scale_units_per_fs: f64,
@@ -65,7 +66,7 @@ impl Calibration {
 }
 
 /// Names of the units derived from a sample unit U.
-#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 pub struct DerivedUnits {
     /// U.
     pub amplitude: String,

@@ -16,7 +16,7 @@
 use std::fmt;
 use std::str::FromStr;
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 /// Hann coefficients a0, a1 of the cosine sum (Harris 1978, eq. 27a).
 const HANN: [f64; 2] = [0.5, 0.5];
@@ -32,7 +32,7 @@ const HFT95: [f64; 5] = [1.0, 1.938_337_9, 1.304_520_2, 0.402_827_0, 0.035_066_5
 pub const KAISER_BETA_MAX: f64 = 100.0;
 
 /// Which window to apply to each segment.
-#[derive(Debug, Clone, Copy, PartialEq, Default, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Default, Serialize, Deserialize)]
 #[serde(tag = "name", rename_all = "kebab-case")]
 pub enum WindowKind {
     /// No taper (boxcar). ENBW 1 bin.
@@ -182,7 +182,7 @@ pub fn bessel_i0(x: f64) -> f64 {
 }
 
 /// Figures of merit of a window that the spectral scaling needs.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct WindowFigures {
     /// Σ w[n].
     pub sum: f64,

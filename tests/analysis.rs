@@ -391,3 +391,15 @@ fn report_json_has_the_documented_fields() {
     }
     assert_eq!(v["schema"], "noisesonde.report/1");
 }
+
+/// The page receives the report as JSON and reads it back: nothing may be lost on the way.
+#[test]
+fn report_survives_a_json_round_trip() {
+    let r = run(Noise::new(8).normals(10_000), 100.0, &Settings::default()).unwrap();
+    let text = serde_json::to_string(&r).unwrap();
+    let back: noisesonde::Report = serde_json::from_str(&text).unwrap();
+    assert!(back == r, "the report changed in a JSON round trip");
+    let settings: Settings = serde_json::from_str(r#"{"welch": {"segment_len": 1024}}"#).unwrap();
+    assert_eq!(settings.welch.segment_len, 1024);
+    assert_eq!(settings.welch.window, noisesonde::window::WindowKind::Hann);
+}

@@ -34,14 +34,14 @@ pub mod wav;
 
 use std::io::{Read, Seek, SeekFrom};
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 pub use self::csv::{ColumnSelector, CsvOptions, CsvSource, ParseColumnSelectorError};
 pub use self::raw::{ParseRawFormatError, RawFormat, RawOptions, RawSource};
 pub use self::wav::{WavOptions, WavSource};
 
 /// What a reader found out about its input.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct SourceInfo {
     /// File name or a short description of where the samples came from.
     pub name: String,

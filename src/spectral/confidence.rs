@@ -13,11 +13,11 @@
 //! - D. B. Percival, A. T. Walden, *Spectral Analysis for Physical Applications*, Cambridge 1993,
 //!   eq. (292b) for the equivalent degrees of freedom of WOSA (from memory).
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 use statrs::distribution::{ChiSquared, ContinuousCDF};
 
 /// Multipliers that turn an estimate into the ends of its confidence interval.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct ConfidenceFactors {
     /// Confidence level 1 − α, e.g. 0.95.
     pub level: f64,

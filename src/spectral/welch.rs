@@ -28,7 +28,7 @@ use std::sync::Arc;
 
 use realfft::num_complex::Complex;
 use realfft::{RealFftPlanner, RealToComplex};
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use crate::error::{AnalysisError, SettingsError};
 use crate::window::{WindowFigures, WindowKind};
@@ -50,7 +50,7 @@ const OVERLAP_ROUNDING_SLACK: f64 = 1e-9;
 pub const MEDIAN_MAX_VALUES: usize = 32 << 20;
 
 /// What to remove from each segment before windowing.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum Detrend {
     /// Nothing: the DC bin keeps the record's mean.
@@ -63,7 +63,7 @@ pub enum Detrend {
 }
 
 /// How the segments' periodograms are combined.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum Average {
     /// Arithmetic mean (Welch 1967).
@@ -101,7 +101,8 @@ text_enum!(Detrend, "detrend", "none" => Detrend::None, "mean" => Detrend::Mean,
 text_enum!(Average, "average", "mean" => Average::Mean, "median" => Average::Median);
 
 /// Settings of the Welch estimator: plain data, checked by [`WelchPlan::new`].
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
 pub struct WelchSettings {
     /// Window applied to each segment.
     pub window: WindowKind,
@@ -359,7 +360,7 @@ impl fmt::Debug for Welch {
 }
 
 /// The averaged spectrum, in the units of the samples pushed.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct WelchResult {
     /// Bin centre frequencies k·f_s/L, k = 0..L/2.
     pub frequency_hz: Vec<f64>,
