@@ -10,6 +10,7 @@
 
 pub mod acf;
 pub mod analysis;
+pub mod bands;
 pub mod error;
 pub mod io;
 pub mod moments;
