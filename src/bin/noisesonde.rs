@@ -191,68 +191,11 @@ fn write_json(report: &Report, path: &Path) -> std::io::Result<()> {
     out.flush()
 }
 
-/// Writes `psd.csv` and `acf.csv` with comment lines that record the settings and units.
+/// Writes `psd.csv` and `acf.csv` (see `noisesonde::export`).
 fn write_csv(report: &Report, dir: &Path) -> std::io::Result<()> {
     std::fs::create_dir_all(dir)?;
-    let psd = &report.psd;
-    let u = &report.units;
-    let mut out = BufWriter::new(File::create(dir.join("psd.csv"))?);
-    writeln!(
-        out,
-        "# noisesonde {} PSD of {} channel {}",
-        report.schema, report.source.name, report.channel
-    )?;
-    writeln!(
-        out,
-        "# sample_rate_hz={} window={} segment_len={} overlap_len={} detrend={} average={} enbw_bins={} enbw_hz={} segments={} dof={} confidence_level={}",
-        report.sample_rate_hz, psd.window, psd.segment_len, psd.overlap_len, psd.detrend, psd.average,
-        psd.enbw_bins, psd.enbw_hz, psd.segments, psd.dof, psd.confidence_level
-    )?;
-    writeln!(
-        out,
-        "frequency_hz,density_{d},amplitude_density_{a},power_spectrum_{p},ci_lower_{d},ci_upper_{d}",
-        d = u.density,
-        a = u.amplitude_density,
-        p = u.power
-    )?;
-    for i in 0..psd.frequency_hz.len() {
-        writeln!(
-            out,
-            "{},{:e},{:e},{:e},{:e},{:e}",
-            psd.frequency_hz[i],
-            psd.density[i],
-            psd.density[i].sqrt(),
-            psd.power_spectrum[i],
-            psd.ci_lower[i],
-            psd.ci_upper[i]
-        )?;
-    }
-    out.flush()?;
-    let acf = &report.acf;
-    let mut out = BufWriter::new(File::create(dir.join("acf.csv"))?);
-    writeln!(
-        out,
-        "# noisesonde {} autocorrelation of {} channel {}",
-        report.schema, report.source.name, report.channel
-    )?;
-    writeln!(
-        out,
-        "# sample_rate_hz={} estimator={} samples={}",
-        report.sample_rate_hz, acf.estimator, report.samples
-    )?;
-    writeln!(
-        out,
-        "lag_s,autocorrelation_{p},autocovariance_{p},coefficient",
-        p = u.power
-    )?;
-    for i in 0..acf.lag_s.len() {
-        writeln!(
-            out,
-            "{},{:e},{:e},{:e}",
-            acf.lag_s[i], acf.autocorrelation[i], acf.autocovariance[i], acf.coefficient[i]
-        )?;
-    }
-    out.flush()
+    std::fs::write(dir.join("psd.csv"), noisesonde::export::psd_csv(report))?;
+    std::fs::write(dir.join("acf.csv"), noisesonde::export::acf_csv(report))
 }
 
 /// A short human summary: each figure with its unit and its meaning.

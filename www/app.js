@@ -1,0 +1,530 @@
+// @ts-check
+// The page: collects the file and settings, hands them to the analysis worker, shows the report.
+// No signal processing here: numbers come from the Rust pipeline (worker) and plots are drawn
+// by Rust (ReportView) on the canvases.
+import init, { ReportView } from './pkg/noisesonde.js';
+import { MSG } from './protocol.js';
+
+/** The demo recording served beside the page, with the calibration its README states. */
+const DEMO = {
+  url: 'demo/preamp-shorted-input-24bit-48000hz-mono.wav',
+  name: 'preamp-shorted-input-24bit-48000hz-mono.wav',
+  scale: '2',
+  unit: 'V',
+};
+
+/** @param {string} id */
+function el(id) {
+  const node = document.getElementById(id);
+  if (!node) throw new Error(`page is missing #${id}`);
+  return node;
+}
+const $ = {
+  fileInput: /** @type {HTMLInputElement} */ (el('file-input')),
+  dropZone: el('drop-zone'),
+  sourceLine: el('source-line'),
+  errorBox: el('error-box'),
+  progress: el('progress'),
+  progressBar: /** @type {HTMLProgressElement} */ (el('progress-bar')),
+  progressText: el('progress-text'),
+  cancel: el('cancel-button'),
+  rawFormat: /** @type {HTMLSelectElement} */ (el('raw-format')),
+  rawChannels: /** @type {HTMLInputElement} */ (el('raw-channels')),
+  sampleRate: /** @type {HTMLInputElement} */ (el('sample-rate')),
+  channel: /** @type {HTMLInputElement} */ (el('channel')),
+  column: /** @type {HTMLInputElement} */ (el('column')),
+  form: /** @type {HTMLFormElement} */ (el('settings-form')),
+  window: /** @type {HTMLSelectElement} */ (el('window')),
+  kaiserLabel: el('kaiser-beta-label'),
+  kaiserBeta: /** @type {HTMLInputElement} */ (el('kaiser-beta')),
+  segment: /** @type {HTMLSelectElement} */ (el('segment')),
+  resolution: /** @type {HTMLOutputElement} */ (el('resolution')),
+  overlap: /** @type {HTMLInputElement} */ (el('overlap')),
+  detrend: /** @type {HTMLSelectElement} */ (el('detrend')),
+  average: /** @type {HTMLSelectElement} */ (el('average')),
+  maxLag: /** @type {HTMLInputElement} */ (el('max-lag')),
+  confidence: /** @type {HTMLInputElement} */ (el('confidence')),
+  scale: /** @type {HTMLInputElement} */ (el('scale')),
+  unit: /** @type {HTMLInputElement} */ (el('unit')),
+  share: /** @type {HTMLAnchorElement} */ (el('share-link')),
+  results: el('results'),
+  runLine: el('run-line'),
+  warnings: el('warnings'),
+  psdMode: /** @type {HTMLSelectElement} */ (el('psd-mode')),
+  showCi: /** @type {HTMLInputElement} */ (el('show-ci')),
+  psdCanvas: /** @type {HTMLCanvasElement} */ (el('psd-canvas')),
+  acfMode: /** @type {HTMLSelectElement} */ (el('acf-mode')),
+  acfCanvas: /** @type {HTMLCanvasElement} */ (el('acf-canvas')),
+  cursorA: el('cursor-a'),
+  cursorAValue: el('cursor-a-value'),
+  cursorB: el('cursor-b'),
+  cursorBValue: el('cursor-b-value'),
+  bandRms: el('band-rms'),
+  quantities: /** @type {HTMLTableElement} */ (el('quantities')),
+};
+
+/** What the page shows now. The previous result stays until a new one replaces it. */
+const state = {
+  /** @type {File | null} */ file: null,
+  /** @type {any} */ report: null,
+  /** @type {string} */ reportJson: '',
+  /** @type {ReportView | null} */ view: null,
+  /** @type {(number | null)[]} */ cursors: [null, null],
+  activeCursor: 0,
+  /** @type {{ id: number, started: number } | null} */ running: null,
+  requestId: 0,
+};
+
+// ---------------------------------------------------------------- worker lifecycle
+/** @type {Worker} */
+let worker;
+function startWorker() {
+  worker = new Worker(new URL('./worker.js', import.meta.url), { type: 'module' });
+  worker.onmessage = onWorkerMessage;
+  worker.onerror = (event) => {
+    showError(`the analysis engine stopped: ${event.message || 'unknown error'}`);
+    finishRun();
+  };
+}
+
+/** @param {MessageEvent} event */
+function onWorkerMessage(event) {
+  const msg = event.data;
+  if (msg.type === MSG.READY) return;
+  if (msg.type === MSG.ERROR && msg.id === -1) {
+    showError(msg.message);
+    return;
+  }
+  if (!state.running || msg.id !== state.running.id) return; // a stale reply
+  if (msg.type === MSG.PROGRESS) {
+    showProgress(msg.bytes, msg.total);
+  } else if (msg.type === MSG.RESULT) {
+    finishRun();
+    showReport(msg.reportJson);
+  } else if (msg.type === MSG.ERROR) {
+    finishRun();
+    showError(msg.message);
+  }
+}
+
+/** @param {File} file */
+function analyze(file) {
+  state.file = file;
+  const id = ++state.requestId;
+  state.running = { id, started: performance.now() };
+  hideError();
+  $.progress.hidden = false;
+  $.progressBar.value = 0;
+  $.progressText.textContent = `reading ${file.name}…`;
+  worker.postMessage({ type: MSG.ANALYZE, id, file, input: readInput(), settings: readSettings() });
+}
+
+function finishRun() {
+  state.running = null;
+  $.progress.hidden = true;
+}
+
+function cancelRun() {
+  if (!state.running) return;
+  worker.terminate();
+  startWorker();
+  finishRun();
+  showError('Analysis cancelled; the previous result is still shown.');
+}
+
+/** @param {number} bytes @param {number} total */
+function showProgress(bytes, total) {
+  if (!state.running || total <= 0) return;
+  const fraction = Math.min(1, bytes / total);
+  $.progressBar.value = fraction;
+  const elapsedS = (performance.now() - state.running.started) / 1000;
+  const leftS = fraction > 0 ? (elapsedS * (1 - fraction)) / fraction : NaN;
+  const left = Number.isFinite(leftS) ? `, about ${leftS < 1 ? '<1' : Math.round(leftS)} s left` : '';
+  $.progressText.textContent = `${(bytes / 1e6).toFixed(1)} of ${(total / 1e6).toFixed(1)} MB${left}`;
+}
+
+// ---------------------------------------------------------------- settings
+function readInput() {
+  /** @type {Record<string, unknown>} */
+  const input = {};
+  if ($.rawFormat.value) {
+    input.raw = $.rawFormat.value;
+    input.channels = Number($.rawChannels.value) || 1;
+  }
+  if ($.sampleRate.value !== '') input.sample_rate_hz = Number($.sampleRate.value);
+  if ($.channel.value !== '' && Number($.channel.value) > 0) input.channel = Number($.channel.value);
+  const column = $.column.value.trim();
+  if (column) input.column = /^\d+$/.test(column) ? Number(column) : column;
+  return input;
+}
+
+function windowSetting() {
+  return $.window.value === 'kaiser'
+    ? { name: 'kaiser', beta: Number($.kaiserBeta.value) }
+    : { name: $.window.value };
+}
+
+function readSettings() {
+  const unit = $.unit.value.trim();
+  return {
+    welch: {
+      window: windowSetting(),
+      segment_len: Number($.segment.value),
+      overlap_frac: Number($.overlap.value),
+      detrend: $.detrend.value,
+      average: $.average.value,
+    },
+    max_lag_s: $.maxLag.value === '' ? null : Number($.maxLag.value),
+    acf_estimator: 'biased',
+    calibration: { scale_units_per_fs: Number($.scale.value), unit: unit === '' ? null : unit },
+    confidence_level: Number($.confidence.value),
+  };
+}
+
+/** Fields kept in the URL fragment: settings and view, never data. */
+const FRAGMENT_FIELDS = {
+  window: $.window, beta: $.kaiserBeta, segment: $.segment, overlap: $.overlap, detrend: $.detrend,
+  average: $.average, maxlag: $.maxLag, confidence: $.confidence, scale: $.scale, unit: $.unit,
+  psd: $.psdMode, acf: $.acfMode,
+};
+
+function fragment() {
+  const params = new URLSearchParams();
+  for (const [key, input] of Object.entries(FRAGMENT_FIELDS)) params.set(key, input.value);
+  params.set('ci', $.showCi.checked ? '1' : '0');
+  state.cursors.forEach((f, i) => { if (f !== null) params.set(i === 0 ? 'a' : 'b', String(f)); });
+  return `#${params.toString()}`;
+}
+
+/** @returns {boolean} whether the fragment held settings */
+function applyFragment() {
+  const text = location.hash.replace(/^#/, '');
+  if (!text) return false;
+  const params = new URLSearchParams(text);
+  for (const [key, input] of Object.entries(FRAGMENT_FIELDS)) {
+    const value = params.get(key);
+    if (value !== null) input.value = value;
+  }
+  if (params.has('ci')) $.showCi.checked = params.get('ci') === '1';
+  const a = Number(params.get('a'));
+  const b = Number(params.get('b'));
+  state.cursors = [params.has('a') && a > 0 ? a : null, params.has('b') && b > 0 ? b : null];
+  return true;
+}
+
+function updateShareLink() {
+  $.share.href = fragment();
+}
+
+function updateDerived() {
+  $.kaiserLabel.hidden = $.window.value !== 'kaiser';
+  const rate = state.report ? state.report.sample_rate_hz : NaN;
+  if (Number.isFinite(rate)) {
+    const binHz = rate / Number($.segment.value);
+    $.resolution.textContent = `bins every ${formatNumber(binHz)} Hz`;
+    $.resolution.dataset.value = String(binHz);
+  } else {
+    $.resolution.textContent = '';
+  }
+}
+
+// ---------------------------------------------------------------- showing a report
+/** @param {number | null | undefined} v */
+function formatNumber(v) {
+  if (v === null || v === undefined || !Number.isFinite(v)) return '—';
+  if (v === 0) return '0';
+  const a = Math.abs(v);
+  return a >= 1e-3 && a < 1e6 ? String(Number(v.toPrecision(6))) : v.toExponential(4);
+}
+
+/**
+ * A value with its machine-readable twin: data-quantity names the path in the JSON report,
+ * data-value holds the number in the report's unit (SI where the unit is).
+ * @param {string} path @param {number | null | undefined} value @param {string} [unit]
+ */
+function quantity(path, value, unit = '') {
+  const span = document.createElement('span');
+  span.dataset.quantity = path;
+  span.dataset.value = value === null || value === undefined ? '' : String(value);
+  span.textContent = formatNumber(value) + (unit ? ` ${unit}` : '');
+  return span;
+}
+
+/** @param {string} json */
+function showReport(json) {
+  let view;
+  try {
+    view = ReportView.from_json(json);
+  } catch (err) {
+    showError(`could not read the report: ${err instanceof Error ? err.message : err}`);
+    return;
+  }
+  state.view?.free();
+  state.view = view;
+  state.reportJson = json;
+  state.report = JSON.parse(json);
+  const r = state.report;
+  $.sourceLine.textContent = `${r.source.name}: ${r.source.format}, channel ${r.channel} of ${r.source.channels}`;
+  renderRunLine(r);
+  renderWarnings(r.warnings);
+  renderQuantities(r);
+  $.results.hidden = false;
+  updateDerived();
+  drawPlots();
+  updateShareLink();
+}
+
+/** @param {any} r */
+function renderRunLine(r) {
+  const p = r.psd;
+  const parts = [
+    ['', 'sample rate ', quantity('sample_rate_hz', r.sample_rate_hz, 'Hz')],
+    ['', ', ', quantity('samples', r.samples), ' samples ('],
+    ['', '', quantity('duration_s', r.duration_s, 's'), '). '],
+    ['', `Window ${p.window.name}${p.window.beta !== undefined ? ` β=${p.window.beta}` : ''}, segment `, quantity('psd.segment_len', p.segment_len), ', overlap '],
+    ['', '', quantity('psd.overlap_len', p.overlap_len), ' samples, ENBW '],
+    ['', '', quantity('psd.enbw_bins', p.enbw_bins, 'bins'), ' = RBW '],
+    ['', '', quantity('psd.enbw_hz', p.enbw_hz, 'Hz'), ', '],
+    ['', '', quantity('psd.segments', p.segments), ' segments, '],
+    ['', '', quantity('psd.dof', p.dof), ` degrees of freedom; ${Math.round(p.confidence_level * 100)} % interval ×`],
+    ['', '', quantity('psd.ci_factor_lower', p.ci_factor_lower), ' to ×'],
+    ['', '', quantity('psd.ci_factor_upper', p.ci_factor_upper), '.'],
+  ];
+  $.runLine.replaceChildren();
+  for (const [, before, node, after] of parts) {
+    $.runLine.append(String(before), /** @type {Node} */ (node), String(after ?? ''));
+  }
+}
+
+/** @param {string[]} warnings */
+function renderWarnings(warnings) {
+  $.warnings.replaceChildren(...warnings.map((w) => {
+    const li = document.createElement('li');
+    li.textContent = w;
+    return li;
+  }));
+}
+
+/** @param {any} r */
+function renderQuantities(r) {
+  const u = r.units;
+  const m = r.moments;
+  const c = r.checks;
+  /** @type {[string, string, number | null, string, string][]} */
+  const rows = [
+    ['DC level', 'moments.mean', m.mean, u.amplitude, 'mean of the samples'],
+    ['RMS (total)', 'moments.rms', m.rms, u.amplitude, '√ of the total power'],
+    ['AC RMS', 'moments.std_dev', m.std_dev, u.amplitude, 'standard deviation: the noise'],
+    ['Total power', 'moments.mean_square', m.mean_square, u.power, 'mean square = R(0), DC + AC'],
+    ['AC power', 'moments.variance', m.variance, u.power, 'variance = C(0) = ∫ PSD df'],
+    ['DC power', 'moments.dc_power', m.dc_power, u.power, 'mean²'],
+    ['R(0) from the autocorrelation', 'acf.autocorrelation.0', r.acf.autocorrelation[0], u.power, 'equals the total power'],
+    ['C(0) from the autocovariance', 'acf.autocovariance.0', r.acf.autocovariance[0], u.power, 'equals the AC power'],
+    ['∫ PSD df', 'checks.parseval.integrated_psd', c.parseval.integrated_psd, u.power, `the area under the PSD; compare with the ${c.parseval.compared_with.replace('_', ' ')}`],
+    ['Parseval ratio', 'checks.parseval.ratio', c.parseval.ratio, '', `∫ PSD df ÷ ${c.parseval.compared_with.replace('_', ' ')}; 1 when the numbers agree`],
+    ['Wiener–Khinchin deviation', 'checks.wiener_khinchin.max_deviation', c.wiener_khinchin.max_deviation, 'of R(0)', `largest gap between the ACF from the PSD and the direct ACF over ${c.wiener_khinchin.lags_compared} lags`],
+    ['Correlation time (1/e)', 'acf.one_over_e_s', r.acf.one_over_e_s, 's', 'lag where the coefficient falls to 1/e'],
+    ['First zero crossing', 'acf.zero_crossing_s', r.acf.zero_crossing_s, 's', 'lag where the coefficient first reaches 0'],
+    ['Minimum', 'moments.min', m.min, u.amplitude, 'smallest sample'],
+    ['Maximum', 'moments.max', m.max, u.amplitude, 'largest sample'],
+    ['Crest factor', 'moments.crest_factor', m.crest_factor, '', 'peak ÷ RMS'],
+    ['Clipped samples', 'moments.clipped_samples', m.clipped_samples, '', 'samples at or beyond full scale'],
+  ];
+  const body = $.quantities.tBodies[0];
+  body.replaceChildren(...rows.map(([label, path, value, unit, meaning]) => {
+    const tr = document.createElement('tr');
+    const th = document.createElement('th');
+    th.scope = 'row';
+    th.textContent = label;
+    const tdValue = document.createElement('td');
+    tdValue.append(quantity(path, value));
+    const tdUnit = document.createElement('td');
+    tdUnit.textContent = unit;
+    const tdMeaning = document.createElement('td');
+    tdMeaning.textContent = meaning;
+    tr.append(th, tdValue, tdUnit, tdMeaning);
+    return tr;
+  }));
+}
+
+// ---------------------------------------------------------------- plots and cursors
+/** @param {HTMLCanvasElement} canvas */
+function sizeCanvas(canvas) {
+  const ratio = window.devicePixelRatio || 1;
+  const cssWidth = Math.max(240, canvas.clientWidth || 600);
+  const cssHeight = Math.round(Math.min(420, Math.max(220, cssWidth * 0.55)));
+  canvas.style.height = `${cssHeight}px`;
+  canvas.width = Math.round(cssWidth * ratio);
+  canvas.height = Math.round(cssHeight * ratio);
+  return ratio;
+}
+
+function drawPlots() {
+  if (!state.view) return;
+  try {
+    const ratio = sizeCanvas($.psdCanvas);
+    state.view.draw_psd($.psdCanvas, JSON.stringify({
+      mode: $.psdMode.value,
+      show_ci: $.showCi.checked,
+      cursors_hz: state.cursors.filter((f) => f !== null),
+      pixel_ratio: ratio,
+    }));
+    const acfRatio = sizeCanvas($.acfCanvas);
+    state.view.draw_acf($.acfCanvas, JSON.stringify({ mode: $.acfMode.value, pixel_ratio: acfRatio }));
+  } catch (err) {
+    showError(`could not draw: ${err instanceof Error ? err.message : err}`);
+  }
+  renderCursors();
+}
+
+function renderCursors() {
+  const view = state.view;
+  if (!view) return;
+  const mode = $.psdMode.value;
+  const unit = view.unit_label(mode);
+  const outputs = [[$.cursorA, $.cursorAValue], [$.cursorB, $.cursorBValue]];
+  state.cursors.forEach((f, i) => {
+    const [fOut, vOut] = outputs[i];
+    fOut.replaceChildren(f === null ? '—' : quantity(`cursor.${i === 0 ? 'a' : 'b'}.frequency_hz`, f, 'Hz'));
+    vOut.replaceChildren(f === null ? '' : quantity(`cursor.${i === 0 ? 'a' : 'b'}.value`, view.psd_value_at(f, mode), unit));
+  });
+  const [a, b] = state.cursors;
+  $.bandRms.replaceChildren(a !== null && b !== null
+    ? quantity('band.rms', view.band_rms(a, b), state.report.unit)
+    : 'place two cursors');
+}
+
+/** @param {MouseEvent} event */
+function onPsdClick(event) {
+  if (!state.view) return;
+  const f = state.view.frequency_at(event.offsetX, window.devicePixelRatio || 1);
+  if (!Number.isFinite(f)) return;
+  state.cursors[state.activeCursor] = f;
+  state.activeCursor = 1 - state.activeCursor;
+  drawPlots();
+  updateShareLink();
+}
+
+/** @param {KeyboardEvent} event */
+function onPsdKey(event) {
+  if (!state.view || !state.report) return;
+  const index = 1 - state.activeCursor; // the cursor placed last
+  const f = state.cursors[index];
+  if (f === null || (event.key !== 'ArrowLeft' && event.key !== 'ArrowRight')) return;
+  event.preventDefault();
+  const step = state.report.psd.bin_width_hz;
+  const next = f + (event.key === 'ArrowRight' ? step : -step);
+  state.cursors[index] = Math.max(step, Math.min(state.report.sample_rate_hz / 2, next));
+  drawPlots();
+  updateShareLink();
+}
+
+// ---------------------------------------------------------------- errors and exports
+/** @param {string} message */
+function showError(message) {
+  $.errorBox.textContent = message;
+  $.errorBox.hidden = false;
+}
+function hideError() {
+  $.errorBox.hidden = true;
+  $.errorBox.textContent = '';
+}
+
+/** @param {Blob} blob @param {string} name */
+function download(blob, name) {
+  const url = URL.createObjectURL(blob);
+  const a = document.createElement('a');
+  a.href = url;
+  a.download = name;
+  document.body.append(a);
+  a.click();
+  a.remove();
+  setTimeout(() => URL.revokeObjectURL(url), 10_000);
+}
+
+function baseName() {
+  return (state.report?.source.name ?? 'recording').replace(/\.[^.]*$/, '');
+}
+
+/** @param {HTMLCanvasElement} canvas @param {string} suffix */
+function exportPng(canvas, suffix) {
+  canvas.toBlob((blob) => { if (blob) download(blob, `${baseName()}-${suffix}.png`); }, 'image/png');
+}
+
+function wireExports() {
+  el('export-json').addEventListener('click', () => {
+    if (state.reportJson) download(new Blob([state.reportJson], { type: 'application/json' }), `${baseName()}-report.json`);
+  });
+  el('export-psd-csv').addEventListener('click', () => {
+    if (state.view) download(new Blob([state.view.psd_csv()], { type: 'text/csv' }), `${baseName()}-psd.csv`);
+  });
+  el('export-acf-csv').addEventListener('click', () => {
+    if (state.view) download(new Blob([state.view.acf_csv()], { type: 'text/csv' }), `${baseName()}-acf.csv`);
+  });
+  el('export-psd-png').addEventListener('click', () => exportPng($.psdCanvas, 'psd'));
+  el('export-acf-png').addEventListener('click', () => exportPng($.acfCanvas, 'acf'));
+}
+
+// ---------------------------------------------------------------- start
+async function loadDemo() {
+  $.progress.hidden = false;
+  $.progressText.textContent = 'loading the demo recording…';
+  try {
+    const response = await fetch(DEMO.url);
+    if (!response.ok) throw new Error(`HTTP ${response.status}`);
+    const blob = await response.blob();
+    analyze(new File([blob], DEMO.name, { type: 'audio/wav' }));
+  } catch (err) {
+    $.progress.hidden = true;
+    showError(`The demo recording could not be loaded (${err instanceof Error ? err.message : err}); choose a file instead.`);
+  }
+}
+
+async function main() {
+  await init();
+  startWorker();
+  const fromLink = applyFragment();
+  if (!fromLink) {
+    $.scale.value = DEMO.scale;
+    $.unit.value = DEMO.unit;
+  }
+  updateDerived();
+  updateShareLink();
+
+  $.fileInput.addEventListener('change', () => {
+    const file = $.fileInput.files?.[0];
+    if (file) analyze(file);
+  });
+  $.dropZone.addEventListener('dragover', (event) => {
+    event.preventDefault();
+    $.dropZone.classList.add('dragging');
+  });
+  $.dropZone.addEventListener('dragleave', () => $.dropZone.classList.remove('dragging'));
+  $.dropZone.addEventListener('drop', (event) => {
+    event.preventDefault();
+    $.dropZone.classList.remove('dragging');
+    const file = event.dataTransfer?.files?.[0];
+    if (file) analyze(file);
+  });
+  $.cancel.addEventListener('click', cancelRun);
+  $.form.addEventListener('submit', (event) => {
+    event.preventDefault();
+    updateShareLink();
+    if (state.file) analyze(state.file);
+  });
+  $.form.addEventListener('change', () => { updateDerived(); updateShareLink(); });
+  for (const control of [$.psdMode, $.showCi, $.acfMode]) {
+    control.addEventListener('change', () => { drawPlots(); updateShareLink(); });
+  }
+  $.psdCanvas.addEventListener('click', onPsdClick);
+  $.psdCanvas.addEventListener('keydown', onPsdKey);
+  let resizeTimer = 0;
+  window.addEventListener('resize', () => {
+    clearTimeout(resizeTimer);
+    resizeTimer = window.setTimeout(drawPlots, 150);
+  });
+  wireExports();
+  await loadDemo();
+}
+
+main().catch((err) => showError(`The page could not start: ${err instanceof Error ? err.message : err}`));

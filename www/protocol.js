@@ -1,0 +1,20 @@
+// @ts-check
+/**
+ * Messages between the page (main thread) and the analysis worker.
+ * The worker owns a wasm instance and streams the File; the page draws.
+ *
+ * page → worker: { type: 'analyze', id, file, input, settings }
+ * worker → page: { type: 'ready' }
+ *                { type: 'progress', id, bytes, total }
+ *                { type: 'result', id, reportJson }
+ *                { type: 'error', id, message }
+ * Cancelling terminates the worker; the page starts a fresh one. Replies whose id is not the
+ * newest request are dropped.
+ */
+export const MSG = Object.freeze({
+  ANALYZE: 'analyze',
+  READY: 'ready',
+  PROGRESS: 'progress',
+  RESULT: 'result',
+  ERROR: 'error',
+});
