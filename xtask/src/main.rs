@@ -2,7 +2,9 @@
 //!
 //! Tasks:
 //! - `test`  — everything CI checks, in order, stopping at the first failure.
-//! - `serve` — builds the release CLI and shows its analysis of the demo recording.
+//! - `serve` — builds the page (wasm + glue + demo) into `target/site/` and serves it on
+//!   127.0.0.1, after showing the CLI's analysis of the demo recording.
+//! - `dist`  — writes `dist/site/`, a folder any static host can serve (relative URLs only).
 //! - `bench` — builds the streaming benchmark example and runs `xtask/bench.py`.
 //! - `help`  — lists the tasks.
 //! - `measure REPORT -- PROGRAM ARGS…` — internal, for `bench.py`: runs one program and writes its
@@ -41,8 +43,9 @@ usage: cargo xtask TASK
 tasks:
   test   run every check CI runs: toolchain and Python setup, rustfmt, clippy,
          cargo test, reference-vector regeneration, wasm32 core build, CLI end-to-end tests
-  serve  build the release CLI and analyse the demo recording
-         (the browser page is not built yet)
+  serve  build the page (wasm, glue, demo recording) into target/site/ and serve it on
+         http://127.0.0.1:PORT/ (PORT from NOISESONDE_PORT, default 8000 or the next free one)
+  dist   write dist/site/, the static page for any web host
   bench  build examples/bench.rs (release) and compare it with numpy/scipy via xtask/bench.py;
          writes target/bench-results.md
   help   show this text
@@ -206,6 +209,7 @@ fn main() -> ExitCode {
     match args.first().map(String::as_str) {
         Some("test") if args.len() == 1 => run_steps("test", &ctx, TEST_STEPS),
         Some("serve") if args.len() == 1 => run_steps("serve", &ctx, SERVE_STEPS),
+        Some("dist") if args.len() == 1 => run_steps("dist", &ctx, DIST_STEPS),
         Some("bench") if args.len() == 1 => run_steps("bench", &ctx, BENCH_STEPS),
         Some("measure") => measure(&args[1..]),
         Some("help" | "-h" | "--help") => {
@@ -246,6 +250,10 @@ const TEST_STEPS: &[Step] = &[
     ),
     ("wasm32 core build without the CLI", wasm_core_build),
     ("CLI end-to-end tests (pytest)", cli_end_to_end),
+    (
+        "page end-to-end tests (headless Chromium)",
+        browser_end_to_end,
+    ),
 ];
 
 /// Adds the rustup components and the wasm32 target when missing (no-op when present).
@@ -479,10 +487,15 @@ fn cli_end_to_end(ctx: &Ctx) -> StepResult {
 
 // ---------------------------------------------------------------- serve
 
-// Later: append steps that build the wasm package and serve `www/` on 127.0.0.1.
 const SERVE_STEPS: &[Step] = &[
     ("release CLI on the demo recording", demo_analysis),
-    ("browser page", browser_page),
+    ("build the page", build_site_step),
+    ("serve the page on 127.0.0.1", serve_site),
+];
+
+const DIST_STEPS: &[Step] = &[
+    ("build the page", build_site_step),
+    ("write dist/site", dist_site),
 ];
 
 fn demo_analysis(ctx: &Ctx) -> StepResult {
@@ -503,10 +516,280 @@ fn demo_analysis(ctx: &Ctx) -> StepResult {
     Ok(Outcome::Passed)
 }
 
-fn browser_page(_ctx: &Ctx) -> StepResult {
-    Ok(Outcome::Skipped(
-        "the browser page is not built yet (it lands in a later issue); nothing is served".into(),
-    ))
+// ---------------------------------------------------------------- the page
+
+/// Where the assembled page goes (served by `serve`, copied by `dist`, tested by `test`).
+const SITE_DIR: &str = "target/site";
+/// The page's own files, copied as they are.
+const PAGE_FILES: [&str; 5] = [
+    "index.html",
+    "app.js",
+    "worker.js",
+    "protocol.js",
+    "style.css",
+];
+/// Output of wasm-bindgen, inside the site.
+const PKG_DIR: &str = "pkg";
+/// The demo recording's place inside the site (app.js fetches it from there).
+const SITE_DEMO: &str = "demo/preamp-shorted-input-24bit-48000hz-mono.wav";
+
+/// The wasm-bindgen version pinned in Cargo.lock (the CLI must match the crate exactly).
+fn pinned_wasm_bindgen(ctx: &Ctx) -> Result<String, Failure> {
+    let lock = fs::read_to_string(ctx.root.join("Cargo.lock"))
+        .map_err(|err| Failure(format!("cannot read Cargo.lock: {err}")))?;
+    let mut lines = lock.lines();
+    while let Some(line) = lines.next() {
+        if line == "name = \"wasm-bindgen\"" {
+            if let Some(version) = lines
+                .next()
+                .and_then(|l| l.strip_prefix("version = \""))
+                .and_then(|l| l.strip_suffix('"'))
+            {
+                return Ok(version.to_string());
+            }
+        }
+    }
+    Err(Failure("Cargo.lock pins no wasm-bindgen version".into()))
+}
+
+/// Installs the wasm-bindgen CLI at the pinned version unless it is already there.
+fn ensure_wasm_bindgen(ctx: &Ctx) -> Result<(), Failure> {
+    let version = pinned_wasm_bindgen(ctx)?;
+    let installed = ctx.tool("wasm-bindgen", &["--version"]).probe();
+    if installed
+        .as_deref()
+        .is_some_and(|v| v.split_whitespace().nth(1) == Some(version.as_str()))
+    {
+        return Ok(());
+    }
+    println!(
+        "--- installing wasm-bindgen-cli {version} (found: {}); this takes several minutes, once",
+        installed.as_deref().map_or("none", str::trim)
+    );
+    // `--locked` fails for this package on the registry mirror here (see shared TOOLCHAIN notes).
+    ctx.cargo(&["install", "wasm-bindgen-cli", "--version"])
+        .arg(format!("={version}"))
+        .run()
+}
+
+fn copy_into(from: &Path, to: &Path) -> Result<(), Failure> {
+    if let Some(parent) = to.parent() {
+        fs::create_dir_all(parent)
+            .map_err(|err| Failure(format!("cannot create {}: {err}", parent.display())))?;
+    }
+    fs::copy(from, to).map(|_| ()).map_err(|err| {
+        Failure(format!(
+            "cannot copy {} to {}: {err}",
+            from.display(),
+            to.display()
+        ))
+    })
+}
+
+/// Builds the wasm module with the `web` feature, runs wasm-bindgen, and assembles
+/// `target/site/` from `www/`, the glue and the demo recording.
+fn build_site(ctx: &Ctx) -> Result<PathBuf, Failure> {
+    ensure_rust_toolchain(ctx)?;
+    ensure_wasm_bindgen(ctx)?;
+    ctx.cargo(&[
+        "build",
+        "--lib",
+        "--release",
+        "--target",
+        WASM_TARGET,
+        "--no-default-features",
+        "--features",
+        "web",
+    ])
+    .run()?;
+    let site = ctx.root.join(SITE_DIR);
+    if site.exists() {
+        fs::remove_dir_all(&site)
+            .map_err(|err| Failure(format!("cannot clear {}: {err}", site.display())))?;
+    }
+    let wasm = ctx
+        .root
+        .join("target")
+        .join(WASM_TARGET)
+        .join("release/noisesonde.wasm");
+    ctx.tool(
+        "wasm-bindgen",
+        &["--target", "web", "--no-typescript", "--out-dir"],
+    )
+    .arg(site.join(PKG_DIR))
+    .arg(&wasm)
+    .run()?;
+    for file in PAGE_FILES {
+        copy_into(&ctx.root.join("www").join(file), &site.join(file))?;
+    }
+    copy_into(&ctx.root.join(DEMO_RECORDING), &site.join(SITE_DEMO))?;
+    Ok(site)
+}
+
+fn build_site_step(ctx: &Ctx) -> StepResult {
+    let site = build_site(ctx)?;
+    let wasm_len = fs::metadata(site.join(PKG_DIR).join("noisesonde_bg.wasm"))
+        .map(|m| m.len())
+        .unwrap_or(0);
+    println!(
+        "--- page assembled in {} (wasm {wasm_len} bytes)",
+        site.display()
+    );
+    Ok(Outcome::Passed)
+}
+
+fn dist_site(ctx: &Ctx) -> StepResult {
+    let from = ctx.root.join(SITE_DIR);
+    let to = ctx.root.join("dist/site");
+    if to.exists() {
+        fs::remove_dir_all(&to)
+            .map_err(|err| Failure(format!("cannot clear {}: {err}", to.display())))?;
+    }
+    copy_tree(&from, &to)?;
+    println!("--- dist/site written: serve it from any static host, under any path");
+    Ok(Outcome::Passed)
+}
+
+fn copy_tree(from: &Path, to: &Path) -> Result<(), Failure> {
+    let entries = fs::read_dir(from)
+        .map_err(|err| Failure(format!("cannot read {}: {err}", from.display())))?;
+    for entry in entries {
+        let entry =
+            entry.map_err(|err| Failure(format!("cannot read {}: {err}", from.display())))?;
+        let path = entry.path();
+        let target = to.join(entry.file_name());
+        if path.is_dir() {
+            copy_tree(&path, &target)?;
+        } else {
+            copy_into(&path, &target)?;
+        }
+    }
+    Ok(())
+}
+
+/// First free port on 127.0.0.1 from `start` on.
+fn free_port(start: u16) -> Result<u16, Failure> {
+    (start..start.saturating_add(100))
+        .find(|&port| std::net::TcpListener::bind(("127.0.0.1", port)).is_ok())
+        .ok_or_else(|| Failure(format!("no free port on 127.0.0.1 from {start}")))
+}
+
+/// A static file server on 127.0.0.1 (Python's http.server, which serves .wasm as
+/// application/wasm), killed when dropped.
+struct Server {
+    child: std::process::Child,
+    url: String,
+}
+
+impl Server {
+    fn start(ctx: &Ctx, site: &Path, port: u16) -> Result<Self, Failure> {
+        let child = Command::new("python3")
+            .args([
+                "-m",
+                "http.server",
+                &port.to_string(),
+                "--bind",
+                "127.0.0.1",
+                "--directory",
+            ])
+            .arg(site)
+            .current_dir(&ctx.root)
+            .stdout(std::process::Stdio::null())
+            .stderr(std::process::Stdio::null())
+            .spawn()
+            .map_err(|err| Failure(format!("cannot start python3 -m http.server: {err}")))?;
+        let url = format!("http://127.0.0.1:{port}/");
+        // Wait until it accepts connections (at most 10 s).
+        for _ in 0..100 {
+            if std::net::TcpStream::connect(("127.0.0.1", port)).is_ok() {
+                return Ok(Self { child, url });
+            }
+            std::thread::sleep(std::time::Duration::from_millis(100));
+        }
+        Err(Failure(format!("the server on port {port} did not start")))
+    }
+}
+
+impl Drop for Server {
+    fn drop(&mut self) {
+        let _ = self.child.kill();
+        let _ = self.child.wait();
+    }
+}
+
+fn serve_site(ctx: &Ctx) -> StepResult {
+    let start = env::var("NOISESONDE_PORT")
+        .ok()
+        .and_then(|p| p.parse().ok())
+        .unwrap_or(8000);
+    let port = free_port(start)?;
+    let mut server = Server::start(ctx, &ctx.root.join(SITE_DIR), port)?;
+    println!(
+        "\n    noisesonde is served at {}  (the demo recording is analysed on arrival; Ctrl-C stops)\n",
+        server.url
+    );
+    let status = server
+        .child
+        .wait()
+        .map_err(|err| Failure(format!("the server failed: {err}")))?;
+    Err(Failure(format!("the server stopped ({status})")))
+}
+
+// ---------------------------------------------------------------- browser tests
+
+/// Folder of the page's end-to-end tests (node's test runner + playwright-core).
+const BROWSER_TEST_DIR: &str = "tests/browser";
+/// Debian's Chromium (never a browser download).
+const CHROMIUM: &str = "/usr/bin/chromium";
+
+/// Installs Debian's chromium when missing (CI runs as root on a clean machine).
+fn ensure_chromium(ctx: &Ctx) -> Result<(), Failure> {
+    if Path::new(CHROMIUM).exists() {
+        return Ok(());
+    }
+    println!("--- installing Debian's chromium (about a minute, once)");
+    ctx.tool("apt-get", &["update", "-qq"]).run()?;
+    ctx.tool("apt-get", &["install", "-y", "-qq", "chromium"])
+        .env("DEBIAN_FRONTEND", "noninteractive")
+        .run()
+}
+
+/// `npm ci` in tests/browser when playwright-core is not installed there yet.
+fn ensure_node_packages(ctx: &Ctx) -> Result<(), Failure> {
+    let dir = ctx.root.join(BROWSER_TEST_DIR);
+    if dir
+        .join("node_modules/playwright-core/package.json")
+        .is_file()
+    {
+        return Ok(());
+    }
+    ctx.tool(
+        "npm",
+        &[
+            "ci",
+            "--no-audit",
+            "--no-fund",
+            "--prefix",
+            BROWSER_TEST_DIR,
+        ],
+    )
+    .run()
+}
+
+fn browser_end_to_end(ctx: &Ctx) -> StepResult {
+    ensure_chromium(ctx)?;
+    ensure_node_packages(ctx)?;
+    let cli = build_release_cli(ctx)?;
+    let site = build_site(ctx)?;
+    let server = Server::start(ctx, &site, free_port(8700)?)?;
+    ctx.tool("node", &["--test", "--test-concurrency=1"])
+        .arg(format!("{BROWSER_TEST_DIR}/"))
+        .env("SITE_URL", &server.url)
+        .env("CHROMIUM", CHROMIUM)
+        .env("NOISESONDE_BIN", &cli)
+        .run()?;
+    drop(server);
+    Ok(Outcome::Passed)
 }
 
 // ---------------------------------------------------------------- bench
