@@ -4,14 +4,10 @@
 // by Rust (ReportView) on the canvases.
 import init, { ReportView } from './pkg/noisesonde.js';
 import { MSG } from './protocol.js';
+import { wasmBytes, createWorker, demoFile } from './platform.js';
 
-/** The demo recording served beside the page, with the calibration its README states. */
-const DEMO = {
-  url: 'demo/preamp-shorted-input-24bit-48000hz-mono.wav',
-  name: 'preamp-shorted-input-24bit-48000hz-mono.wav',
-  scale: '2',
-  unit: 'V',
-};
+/** The demo recording's calibration, as its README states: 1.0 full scale = 2 V. */
+const DEMO = { scale: '2', unit: 'V' };
 
 /** @param {string} id */
 function el(id) {
@@ -78,8 +74,11 @@ const state = {
 // ---------------------------------------------------------------- worker lifecycle
 /** @type {Worker} */
 let worker;
+/** @type {WebAssembly.Module} */
+let wasmModule;
 function startWorker() {
-  worker = new Worker(new URL('./worker.js', import.meta.url), { type: 'module' });
+  worker = createWorker();
+  worker.postMessage({ type: MSG.INIT, module: wasmModule });
   worker.onmessage = onWorkerMessage;
   worker.onerror = (event) => {
     showError(`the analysis engine stopped: ${event.message || 'unknown error'}`);
@@ -470,10 +469,7 @@ async function loadDemo() {
   $.progress.hidden = false;
   $.progressText.textContent = 'loading the demo recording…';
   try {
-    const response = await fetch(DEMO.url);
-    if (!response.ok) throw new Error(`HTTP ${response.status}`);
-    const blob = await response.blob();
-    analyze(new File([blob], DEMO.name, { type: 'audio/wav' }));
+    analyze(await demoFile());
   } catch (err) {
     $.progress.hidden = true;
     showError(`The demo recording could not be loaded (${err instanceof Error ? err.message : err}); choose a file instead.`);
@@ -481,7 +477,8 @@ async function loadDemo() {
 }
 
 async function main() {
-  await init();
+  wasmModule = await WebAssembly.compile(await wasmBytes());
+  await init({ module_or_path: wasmModule });
   startWorker();
   const fromLink = applyFragment();
   if (!fromLink) {

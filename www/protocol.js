@@ -3,7 +3,8 @@
  * Messages between the page (main thread) and the analysis worker.
  * The worker owns a wasm instance and streams the File; the page draws.
  *
- * page → worker: { type: 'analyze', id, file, input, settings }
+ * page → worker: { type: 'init', module }   (the compiled WebAssembly.Module, compiled once)
+ *                { type: 'analyze', id, file, input, settings }
  * worker → page: { type: 'ready' }
  *                { type: 'progress', id, bytes, total }
  *                { type: 'result', id, reportJson }
@@ -12,6 +13,7 @@
  * newest request are dropped.
  */
 export const MSG = Object.freeze({
+  INIT: 'init',
   ANALYZE: 'analyze',
   READY: 'ready',
   PROGRESS: 'progress',

@@ -1,15 +1,26 @@
 // @ts-check
 // The analysis worker: owns a wasm instance, reads the dropped File in slices (FileReaderSync is
 // only available in workers) and streams it through the same Rust pipeline as the command line.
+// The page compiles the wasm once and sends the module, so this file needs no network access.
 import init, { analyze_file } from './pkg/noisesonde.js';
 import { MSG } from './protocol.js';
 
-const ready = init();
+/** @type {Promise<unknown> | null} */
+let ready = null;
 
 self.onmessage = async (event) => {
   const msg = event.data;
+  if (msg.type === MSG.INIT) {
+    ready = init({ module_or_path: msg.module });
+    ready.then(
+      () => self.postMessage({ type: MSG.READY }),
+      (err) => self.postMessage({ type: MSG.ERROR, id: -1, message: `could not start the analysis engine: ${err}` }),
+    );
+    return;
+  }
   if (msg.type !== MSG.ANALYZE) return;
   try {
+    if (!ready) throw new Error('the analysis engine was not started');
     await ready;
     const reportJson = analyze_file(
       msg.file,
@@ -24,8 +35,3 @@ self.onmessage = async (event) => {
     self.postMessage({ type: MSG.ERROR, id: msg.id, message });
   }
 };
-
-ready.then(
-  () => self.postMessage({ type: MSG.READY }),
-  (err) => self.postMessage({ type: MSG.ERROR, id: -1, message: `could not start the analysis engine: ${err}` }),
-);

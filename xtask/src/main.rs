@@ -521,11 +521,12 @@ fn demo_analysis(ctx: &Ctx) -> StepResult {
 /// Where the assembled page goes (served by `serve`, copied by `dist`, tested by `test`).
 const SITE_DIR: &str = "target/site";
 /// The page's own files, copied as they are.
-const PAGE_FILES: [&str; 5] = [
+const PAGE_FILES: [&str; 6] = [
     "index.html",
     "app.js",
     "worker.js",
     "protocol.js",
+    "platform.js",
     "style.css",
 ];
 /// Output of wasm-bindgen, inside the site.
