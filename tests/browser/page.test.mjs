@@ -185,3 +185,19 @@ test('nothing leaves the machine: only same-origin GETs, and the policy blocks t
   assert.deepEqual(foreign, []);
   await page.close();
 });
+
+test('the single file works from file:// with no network at all', { skip: !process.env.SINGLE_FILE }, async () => {
+  const page = await context.newPage();
+  const seen = [];
+  page.on('request', (r) => seen.push(r.url()));
+  const errors = [];
+  page.on('pageerror', (e) => errors.push(e.message));
+  await page.goto(`file://${process.env.SINGLE_FILE}`);
+  await waitForReport(page, 'preamp-shorted-input');
+  assert.deepEqual(errors, []);
+  assertMatchesReport(await pageQuantities(page), cliReport(DEMO, '--scale', '2', '--unit', 'V'));
+  const remote = seen.filter((u) => !(u.startsWith('file:') || u.startsWith('blob:') || u.startsWith('data:')));
+  assert.deepEqual(remote, []);
+  await page.screenshot({ path: join(ARTIFACTS, 'single-file.png'), fullPage: true });
+  await page.close();
+});

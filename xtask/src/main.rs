@@ -4,7 +4,8 @@
 //! - `test`  — everything CI checks, in order, stopping at the first failure.
 //! - `serve` — builds the page (wasm + glue + demo) into `target/site/` and serves it on
 //!   127.0.0.1, after showing the CLI's analysis of the demo recording.
-//! - `dist`  — writes `dist/site/`, a folder any static host can serve (relative URLs only).
+//! - `dist`  — writes `dist/site/`, a folder any static host can serve (relative URLs only),
+//!   and `dist/noisesonde.html`, one file with everything inside that works from file://.
 //! - `bench` — builds the streaming benchmark example and runs `xtask/bench.py`.
 //! - `help`  — lists the tasks.
 //! - `measure REPORT -- PROGRAM ARGS…` — internal, for `bench.py`: runs one program and writes its
@@ -45,7 +46,8 @@ tasks:
          cargo test, reference-vector regeneration, wasm32 core build, CLI end-to-end tests
   serve  build the page (wasm, glue, demo recording) into target/site/ and serve it on
          http://127.0.0.1:PORT/ (PORT from NOISESONDE_PORT, default 8000 or the next free one)
-  dist   write dist/site/, the static page for any web host
+  dist   write dist/site/, the static page for any web host, and dist/noisesonde.html,
+         one self-contained file that works when opened from disk (file://)
   bench  build examples/bench.rs (release) and compare it with numpy/scipy via xtask/bench.py;
          writes target/bench-results.md
   help   show this text
@@ -496,6 +498,10 @@ const SERVE_STEPS: &[Step] = &[
 const DIST_STEPS: &[Step] = &[
     ("build the page", build_site_step),
     ("write dist/site", dist_site),
+    (
+        "write dist/noisesonde.html (one file, works from file://)",
+        dist_single_step,
+    ),
 ];
 
 fn demo_analysis(ctx: &Ctx) -> StepResult {
@@ -668,6 +674,180 @@ fn copy_tree(from: &Path, to: &Path) -> Result<(), Failure> {
     Ok(())
 }
 
+/// The single file's policy: inline script and style only, workers from blob: URLs, no
+/// connections at all (the wasm and the demo are inside the file).
+const SINGLE_FILE_CSP: &str = "default-src 'none'; script-src 'unsafe-inline' 'wasm-unsafe-eval'; worker-src blob:; connect-src 'none'; img-src blob: data:; style-src 'unsafe-inline'; font-src 'none'; object-src 'none'; media-src 'none'; frame-src 'none'; base-uri 'none'; form-action 'none'";
+
+/// Standard base64 (RFC 4648 §4) with padding.
+fn base64(bytes: &[u8]) -> String {
+    const ALPHABET: &[u8; 64] = b"ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789+/";
+    let mut out = String::with_capacity(bytes.len().div_ceil(3) * 4);
+    for chunk in bytes.chunks(3) {
+        let b = [
+            chunk[0],
+            *chunk.get(1).unwrap_or(&0),
+            *chunk.get(2).unwrap_or(&0),
+        ];
+        let n = (u32::from(b[0]) << 16) | (u32::from(b[1]) << 8) | u32::from(b[2]);
+        for (i, shift) in [18, 12, 6, 0].into_iter().enumerate() {
+            if i <= chunk.len() {
+                out.push(char::from(ALPHABET[((n >> shift) & 63) as usize]));
+            } else {
+                out.push('=');
+            }
+        }
+    }
+    out
+}
+
+/// A JavaScript string literal for `text` (JSON string syntax is valid JavaScript).
+fn js_string(text: &str) -> String {
+    let mut out = String::with_capacity(text.len() + 2);
+    out.push('"');
+    for c in text.chars() {
+        match c {
+            '"' => out.push_str("\\\""),
+            '\\' => out.push_str("\\\\"),
+            '\n' => out.push_str("\\n"),
+            '\r' => out.push_str("\\r"),
+            '\t' => out.push_str("\\t"),
+            '<' => out.push_str("\\u003c"),
+            c if (c as u32) < 0x20 || c == '\u{2028}' || c == '\u{2029}' => {
+                out.push_str(&format!("\\u{:04x}", c as u32));
+            }
+            c => out.push(c),
+        }
+    }
+    out.push('"');
+    out
+}
+
+/// A page script without its ES-module lines (`import …;` removed, `export ` dropped).
+fn without_module_syntax(source: &str) -> String {
+    source
+        .lines()
+        .filter(|line| !line.trim_start().starts_with("import "))
+        .map(|line| line.strip_prefix("export ").unwrap_or(line))
+        .collect::<Vec<_>>()
+        .join("\n")
+}
+
+fn read_text(path: &Path) -> Result<String, Failure> {
+    fs::read_to_string(path)
+        .map_err(|err| Failure(format!("cannot read {}: {err}", path.display())))
+}
+
+/// Writes dist/noisesonde.html: the page with its styles, scripts, wasm and demo recording
+/// inside, for opening from file:// (where ES modules and fetch are blocked). The glue is
+/// wasm-bindgen's `no-modules` build; the worker starts from a blob: URL as a classic worker and
+/// receives the compiled module from the page.
+fn dist_single(ctx: &Ctx) -> Result<PathBuf, Failure> {
+    let glue_dir = ctx.root.join("target/single-file-pkg");
+    let wasm = ctx
+        .root
+        .join("target")
+        .join(WASM_TARGET)
+        .join("release/noisesonde.wasm");
+    ctx.tool(
+        "wasm-bindgen",
+        &["--target", "no-modules", "--no-typescript", "--out-dir"],
+    )
+    .arg(&glue_dir)
+    .arg(&wasm)
+    .run()?;
+    let glue = read_text(&glue_dir.join("noisesonde.js"))?;
+    let wasm_bytes = fs::read(glue_dir.join("noisesonde_bg.wasm"))
+        .map_err(|err| Failure(format!("cannot read the wasm: {err}")))?;
+    let demo_bytes = fs::read(ctx.root.join(DEMO_RECORDING))
+        .map_err(|err| Failure(format!("cannot read {DEMO_RECORDING}: {err}")))?;
+    let www = ctx.root.join("www");
+    let protocol = without_module_syntax(&read_text(&www.join("protocol.js"))?);
+    let worker = without_module_syntax(&read_text(&www.join("worker.js"))?);
+    let app = without_module_syntax(&read_text(&www.join("app.js"))?);
+    let style = read_text(&www.join("style.css"))?;
+    let html = read_text(&www.join("index.html"))?;
+    let demo_name = Path::new(DEMO_RECORDING)
+        .file_name()
+        .map_or_else(String::new, |n| n.to_string_lossy().into_owned());
+
+    let worker_source = format!(
+        "{glue}\n{protocol}\nconst init = wasm_bindgen;\nconst {{ analyze_file }} = wasm_bindgen;\n{worker}\n"
+    );
+    let platform = format!(
+        r#"// Single-file platform: the wasm and the demo recording are inside this page.
+const WASM_BASE64 = "{wasm}";
+const DEMO_BASE64 = "{demo}";
+const WORKER_SOURCE = {worker_source};
+function fromBase64(text) {{
+  const binary = atob(text);
+  const bytes = new Uint8Array(binary.length);
+  for (let i = 0; i < binary.length; i += 1) bytes[i] = binary.charCodeAt(i);
+  return bytes;
+}}
+async function wasmBytes() {{ return fromBase64(WASM_BASE64); }}
+function createWorker() {{
+  const url = URL.createObjectURL(new Blob([WORKER_SOURCE], {{ type: 'text/javascript' }}));
+  return new Worker(url);
+}}
+async function demoFile() {{
+  return new File([fromBase64(DEMO_BASE64)], {demo_name}, {{ type: 'audio/wav' }});
+}}
+"#,
+        wasm = base64(&wasm_bytes),
+        demo = base64(&demo_bytes),
+        worker_source = js_string(&worker_source),
+        demo_name = js_string(&demo_name),
+    );
+    let script = format!(
+        "{glue}\n{protocol}\n{platform}\nconst init = wasm_bindgen;\nconst {{ ReportView }} = wasm_bindgen;\n{app}\n"
+    )
+    .replace("</script", "<\\/script");
+
+    let head_script = "<script type=\"module\" src=\"app.js\"></script>\n";
+    let stylesheet = "<link rel=\"stylesheet\" href=\"style.css\">";
+    let csp_start = html
+        .find("<meta http-equiv=\"Content-Security-Policy\" content=\"")
+        .ok_or_else(|| Failure("www/index.html has no Content-Security-Policy meta".into()))?;
+    let csp_value_start =
+        csp_start + "<meta http-equiv=\"Content-Security-Policy\" content=\"".len();
+    let csp_value_end = html[csp_value_start..]
+        .find('"')
+        .map(|i| csp_value_start + i)
+        .ok_or_else(|| Failure("unterminated Content-Security-Policy meta".into()))?;
+    let mut page = format!(
+        "{}{SINGLE_FILE_CSP}{}",
+        &html[..csp_value_start],
+        &html[csp_value_end..]
+    );
+    for needle in [head_script, stylesheet, "</body>"] {
+        if !page.contains(needle) {
+            return Err(Failure(format!("www/index.html lacks `{}`", needle.trim())));
+        }
+    }
+    page = page
+        .replace(head_script, "")
+        .replace(stylesheet, &format!("<style>\n{style}</style>"))
+        .replace("</body>", &format!("<script>\n{script}</script>\n</body>"));
+    let out = ctx.root.join("dist/noisesonde.html");
+    if let Some(parent) = out.parent() {
+        fs::create_dir_all(parent)
+            .map_err(|err| Failure(format!("cannot create {}: {err}", parent.display())))?;
+    }
+    fs::write(&out, page)
+        .map_err(|err| Failure(format!("cannot write {}: {err}", out.display())))?;
+    Ok(out)
+}
+
+fn dist_single_step(ctx: &Ctx) -> StepResult {
+    let out = dist_single(ctx)?;
+    let len = fs::metadata(&out).map(|m| m.len()).unwrap_or(0);
+    println!(
+        "--- {} written ({len} bytes): open it from disk, no server needed",
+        out.display()
+    );
+    Ok(Outcome::Passed)
+}
+
 /// First free port on 127.0.0.1 from `start` on.
 fn free_port(start: u16) -> Result<u16, Failure> {
     (start..start.saturating_add(100))
@@ -782,10 +962,12 @@ fn browser_end_to_end(ctx: &Ctx) -> StepResult {
     ensure_node_packages(ctx)?;
     let cli = build_release_cli(ctx)?;
     let site = build_site(ctx)?;
+    let single = dist_single(ctx)?;
     let server = Server::start(ctx, &site, free_port(8700)?)?;
     ctx.tool("node", &["--test", "--test-concurrency=1"])
         .arg(format!("{BROWSER_TEST_DIR}/"))
         .env("SITE_URL", &server.url)
+        .env("SINGLE_FILE", &single)
         .env("CHROMIUM", CHROMIUM)
         .env("NOISESONDE_BIN", &cli)
         .run()?;
