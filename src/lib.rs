@@ -15,6 +15,7 @@ pub mod error;
 pub mod io;
 pub mod moments;
 mod numeric;
+pub mod plot;
 pub mod report;
 pub mod spectral;
 pub mod units;

@@ -1,0 +1,971 @@
+//! The plots, drawn natively into a backend that records what it is asked to draw, so the tests
+//! can check the very chart the page shows: where the curve lies, what the labels say, what the
+//! markers mark. One test also draws real SVG.
+
+use std::cell::RefCell;
+use std::convert::Infallible;
+use std::rc::Rc;
+
+use noisesonde::analysis::{analyze, Settings};
+use noisesonde::io::{ReadError, SampleSource, SourceInfo};
+use noisesonde::plot::{
+    colours, decimate_min_max, decimate_min_max_indices, draw_acf, draw_psd, AcfMode,
+    AcfPlotOptions, PlotError, PlotFrame, PsdMode, PsdPlotOptions,
+};
+use noisesonde::report::Report;
+use noisesonde::spectral::WelchSettings;
+use noisesonde::units::Calibration;
+use plotters::prelude::{DrawingBackend, IntoDrawingArea, RGBColor};
+use plotters_backend::{
+    BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingErrorKind, FontTransform,
+};
+
+// ---------------------------------------------------------------------------------------------
+// A backend that records.
+
+#[derive(Debug, Clone)]
+struct TextRecord {
+    text: String,
+    pos: BackendCoord,
+    size_px: f64,
+    rotated: bool,
+}
+
+#[derive(Debug, Clone)]
+struct Shape {
+    points: Vec<BackendCoord>,
+    rgb: (u8, u8, u8),
+    alpha: f64,
+    width_px: u32,
+}
+
+#[derive(Debug, Default)]
+struct Record {
+    texts: Vec<TextRecord>,
+    paths: Vec<Shape>,
+    polygons: Vec<Shape>,
+    filled_rects: Vec<Shape>,
+}
+
+impl Record {
+    fn paths_of(&self, c: RGBColor) -> Vec<&Shape> {
+        self.paths.iter().filter(|p| p.rgb == rgb(c)).collect()
+    }
+
+    /// The measured curve: the longest path in the curve colour.
+    fn curve(&self) -> Shape {
+        self.paths_of(colours::CURVE)
+            .into_iter()
+            .max_by_key(|p| p.points.len())
+            .cloned()
+            .expect("a curve was drawn")
+    }
+
+    /// The y-axis description: the one text drawn rotated.
+    fn y_description(&self) -> String {
+        let rotated: Vec<&TextRecord> = self.texts.iter().filter(|t| t.rotated).collect();
+        assert_eq!(rotated.len(), 1, "{rotated:?}");
+        rotated[0].text.clone()
+    }
+
+    fn has_text(&self, part: &str) -> bool {
+        self.texts.iter().any(|t| t.text.contains(part))
+    }
+}
+
+fn rgb(c: RGBColor) -> (u8, u8, u8) {
+    (c.0, c.1, c.2)
+}
+
+/// Records every path, polygon, filled rectangle and text; measures text as 0.6 em per
+/// character and 1 em high.
+struct Recorder {
+    size: (u32, u32),
+    record: Rc<RefCell<Record>>,
+}
+
+impl Recorder {
+    fn new(width_px: u32, height_px: u32) -> (Self, Rc<RefCell<Record>>) {
+        let record = Rc::new(RefCell::new(Record::default()));
+        (
+            Self {
+                size: (width_px, height_px),
+                record: record.clone(),
+            },
+            record,
+        )
+    }
+}
+
+fn shape<S: BackendStyle>(points: Vec<BackendCoord>, style: &S) -> Shape {
+    let BackendColor { rgb, alpha } = style.color();
+    Shape {
+        points,
+        rgb,
+        alpha,
+        width_px: style.stroke_width(),
+    }
+}
+
+impl DrawingBackend for Recorder {
+    type ErrorType = Infallible;
+
+    fn get_size(&self) -> (u32, u32) {
+        self.size
+    }
+    fn ensure_prepared(&mut self) -> Result<(), DrawingErrorKind<Infallible>> {
+        Ok(())
+    }
+    fn present(&mut self) -> Result<(), DrawingErrorKind<Infallible>> {
+        Ok(())
+    }
+    fn draw_pixel(
+        &mut self,
+        _: BackendCoord,
+        _: BackendColor,
+    ) -> Result<(), DrawingErrorKind<Infallible>> {
+        Ok(())
+    }
+    fn draw_line<S: BackendStyle>(
+        &mut self,
+        from: BackendCoord,
+        to: BackendCoord,
+        style: &S,
+    ) -> Result<(), DrawingErrorKind<Infallible>> {
+        self.record
+            .borrow_mut()
+            .paths
+            .push(shape(vec![from, to], style));
+        Ok(())
+    }
+    fn draw_rect<S: BackendStyle>(
+        &mut self,
+        upper_left: BackendCoord,
+        bottom_right: BackendCoord,
+        style: &S,
+        fill: bool,
+    ) -> Result<(), DrawingErrorKind<Infallible>> {
+        if fill {
+            self.record
+                .borrow_mut()
+                .filled_rects
+                .push(shape(vec![upper_left, bottom_right], style));
+        }
+        Ok(())
+    }
+    fn draw_path<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(
+        &mut self,
+        path: I,
+        style: &S,
+    ) -> Result<(), DrawingErrorKind<Infallible>> {
+        let points = path.into_iter().collect();
+        self.record.borrow_mut().paths.push(shape(points, style));
+        Ok(())
+    }
+    fn fill_polygon<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(
+        &mut self,
+        vert: I,
+        style: &S,
+    ) -> Result<(), DrawingErrorKind<Infallible>> {
+        let points = vert.into_iter().collect();
+        self.record.borrow_mut().polygons.push(shape(points, style));
+        Ok(())
+    }
+    fn draw_text<T: BackendTextStyle>(
+        &mut self,
+        text: &str,
+        style: &T,
+        pos: BackendCoord,
+    ) -> Result<(), DrawingErrorKind<Infallible>> {
+        self.record.borrow_mut().texts.push(TextRecord {
+            text: text.to_string(),
+            pos,
+            size_px: style.size(),
+            rotated: !matches!(style.transform(), FontTransform::None),
+        });
+        Ok(())
+    }
+    fn estimate_text_size<T: BackendTextStyle>(
+        &self,
+        text: &str,
+        style: &T,
+    ) -> Result<(u32, u32), DrawingErrorKind<Infallible>> {
+        let em = style.size();
+        Ok(((0.6 * em * text.chars().count() as f64) as u32, em as u32))
+    }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Reports to draw.
+
+/// An in-memory source of full-scale samples.
+struct VecSource {
+    info: SourceInfo,
+    samples: Vec<f64>,
+    pos: usize,
+}
+
+impl VecSource {
+    fn new(samples: Vec<f64>, sample_rate_hz: f64) -> Self {
+        Self {
+            info: SourceInfo {
+                name: "memory".into(),
+                format: "test samples".into(),
+                channels: 1,
+                channel: 0,
+                channel_name: None,
+                sample_rate_hz,
+                bits_per_sample: None,
+                full_scale: true,
+                clip_level_fs: Some(1.0),
+                declared_frames: None,
+            },
+            samples,
+            pos: 0,
+        }
+    }
+}
+
+impl SampleSource for VecSource {
+    fn info(&self) -> &SourceInfo {
+        &self.info
+    }
+    fn read(&mut self, out: &mut [f64]) -> Result<usize, ReadError> {
+        let n = out.len().min(self.samples.len() - self.pos);
+        out[..n].copy_from_slice(&self.samples[self.pos..self.pos + n]);
+        self.pos += n;
+        Ok(n)
+    }
+    fn warnings(&self) -> &[String] {
+        &[]
+    }
+}
+
+/// Uniform noise on (−0.5, 0.5) from xorshift64* (Vigna 2016), deterministic.
+fn noise(len: usize, seed: u64) -> Vec<f64> {
+    let mut state = seed.max(1);
+    (0..len)
+        .map(|_| {
+            state ^= state >> 12;
+            state ^= state << 25;
+            state ^= state >> 27;
+            let bits = state.wrapping_mul(0x2545_F491_4F6C_DD1D) >> 11;
+            bits as f64 / (1u64 << 53) as f64 - 0.5
+        })
+        .collect()
+}
+
+const FS_HZ: f64 = 1000.0;
+const SEGMENT_LEN: usize = 256;
+
+fn settings(unit: Option<&str>) -> Settings {
+    Settings {
+        welch: WelchSettings {
+            segment_len: SEGMENT_LEN,
+            ..WelchSettings::default()
+        },
+        calibration: Calibration {
+            scale_units_per_fs: 1.0,
+            unit: unit.map(str::to_string),
+        },
+        ..Settings::default()
+    }
+}
+
+/// The report of 16 segments of white noise at 1 kHz, in volts.
+fn noise_report() -> Report {
+    let mut source = VecSource::new(noise(16 * SEGMENT_LEN, 7), FS_HZ);
+    analyze(&mut source, &settings(Some("V"))).expect("analysis of white noise")
+}
+
+/// Draws the PSD into a recorder of `width_px` × `height_px`.
+fn psd_plot(
+    report: &Report,
+    options: &PsdPlotOptions,
+    size: (u32, u32),
+) -> (Result<PlotFrame, PlotError>, Record) {
+    let (backend, record) = Recorder::new(size.0, size.1);
+    let area = backend.into_drawing_area();
+    let result = draw_psd(&area, report, options);
+    drop(area);
+    let record = Rc::try_unwrap(record).expect("one owner").into_inner();
+    (result, record)
+}
+
+fn acf_plot(report: &Report, options: &AcfPlotOptions) -> (Result<PlotFrame, PlotError>, Record) {
+    let (backend, record) = Recorder::new(800, 500);
+    let area = backend.into_drawing_area();
+    let result = draw_acf(&area, report, options);
+    drop(area);
+    let record = Rc::try_unwrap(record).expect("one owner").into_inner();
+    (result, record)
+}
+
+fn psd_options(mode: PsdMode) -> PsdPlotOptions {
+    PsdPlotOptions {
+        mode,
+        ..PsdPlotOptions::default()
+    }
+}
+
+/// Relative agreement of round trips through the frame (a few ulps of log10 and 10^x).
+const ROUND_TRIP_REL: f64 = 1e-12;
+
+// ---------------------------------------------------------------------------------------------
+// PSD.
+
+#[test]
+fn frame_maps_first_and_last_frequency_to_the_edges() {
+    let report = noise_report();
+    let (frame, record) = psd_plot(&report, &PsdPlotOptions::default(), (800, 500));
+    let frame = frame.expect("PSD drawn");
+
+    let first_hz = FS_HZ / SEGMENT_LEN as f64; // bin 1; bin 0 (DC) cannot sit on a log axis
+    let last_hz = FS_HZ / 2.0;
+    assert_eq!(report.psd.frequency_hz[1], first_hz);
+    assert_eq!(*report.psd.frequency_hz.last().unwrap(), last_hz);
+    assert!(frame.x_log && frame.y_log);
+    assert_eq!((frame.x_min, frame.x_max), (first_hz, last_hz));
+    assert!((frame.px_at(first_hz) - frame.left_px).abs() < 1e-9);
+    assert!((frame.px_at(last_hz) - (frame.left_px + frame.width_px)).abs() < 1e-9);
+    for f in [first_hz, 10.0, 123.4, 250.0, last_hz] {
+        let back = frame.x_at(frame.px_at(f));
+        assert!((back - f).abs() <= ROUND_TRIP_REL * f, "{f} -> {back}");
+    }
+    for px in [
+        frame.left_px,
+        frame.left_px + 17.5,
+        frame.left_px + frame.width_px,
+    ] {
+        assert!((frame.px_at(frame.x_at(px)) - px).abs() < 1e-9);
+    }
+
+    // The curve was drawn where the frame says: first point on the left edge, last point on the
+    // right edge, every point inside the plotting area.
+    let curve = record.curve();
+    let (first, last) = (curve.points[0], *curve.points.last().unwrap());
+    assert_eq!(first.0, frame.left_px as i32);
+    assert_eq!(last.0, (frame.left_px + frame.width_px) as i32);
+    for &(x, y) in &curve.points {
+        assert!(frame.contains_px(f64::from(x)) && frame.contains_py(f64::from(y)));
+    }
+    // 128 bins above DC in about 700 pixel columns: nothing to decimate.
+    assert_eq!(curve.points.len(), report.psd.frequency_hz.len() - 1);
+    // And each point sits at its bin's value (plotters floors to whole pixels).
+    for (k, &(x, y)) in curve.points.iter().enumerate() {
+        let bin = k + 1;
+        let want_x = frame.px_at(report.psd.frequency_hz[bin]);
+        let want_y = frame.py_at(report.psd.density[bin]);
+        assert!(
+            (f64::from(x) - want_x).abs() <= 1.0,
+            "bin {bin}: x {x} vs {want_x}"
+        );
+        assert!(
+            (f64::from(y) - want_y).abs() <= 1.0,
+            "bin {bin}: y {y} vs {want_y}"
+        );
+    }
+}
+
+/// A PSD of 100 001 bins (0 to 100 kHz in 1 Hz steps) at 1e-6 V²/Hz with one bin 60 dB
+/// higher, built by hand on top of a real report.
+fn spur_report(spur_bin: usize) -> Report {
+    let mut report = noise_report();
+    let bins = 100_001;
+    let floor = 1e-6;
+    let psd = &mut report.psd;
+    report.sample_rate_hz = 200_000.0;
+    psd.bin_width_hz = 1.0;
+    psd.enbw_hz = 1.5;
+    psd.frequency_hz = (0..bins).map(|k| k as f64).collect();
+    psd.density = vec![floor; bins];
+    psd.density[spur_bin] = floor * 1e6; // +60 dB
+    psd.power_spectrum = psd.density.iter().map(|p| p * psd.enbw_hz).collect();
+    psd.ci_lower = psd.density.iter().map(|p| p * 0.5).collect();
+    psd.ci_upper = psd.density.iter().map(|p| p * 2.0).collect();
+    report
+}
+
+#[test]
+fn a_one_bin_spur_in_100000_bins_survives_decimation() {
+    let spur_bin = 12_345;
+    let report = spur_report(spur_bin);
+    let (frame, record) = psd_plot(&report, &PsdPlotOptions::default(), (800, 500));
+    let frame = frame.expect("PSD drawn");
+    let curve = record.curve();
+
+    // At most four points per pixel column were drawn, far fewer than 100 000 bins.
+    let columns = frame.width_px as usize + 1;
+    assert!(
+        curve.points.len() <= 4 * columns,
+        "{} points for {columns} columns",
+        curve.points.len()
+    );
+    // The spur is there at its full height (1 V²/Hz), in its own column.
+    let top = curve.points.iter().min_by_key(|p| p.1).unwrap();
+    assert!(
+        (f64::from(top.1) - frame.py_at(1.0)).abs() <= 1.0,
+        "highest point at y {} but 1 V^2/Hz is at {}",
+        top.1,
+        frame.py_at(1.0)
+    );
+    assert!((f64::from(top.0) - frame.px_at(spur_bin as f64)).abs() <= 1.0);
+    // Everything else is on the floor.
+    let floor_py = frame.py_at(1e-6);
+    let on_floor = curve
+        .points
+        .iter()
+        .filter(|p| (f64::from(p.1) - floor_py).abs() <= 1.0)
+        .count();
+    assert!(
+        on_floor >= curve.points.len() - 3,
+        "{on_floor} of {}",
+        curve.points.len()
+    );
+    // In decibels too (linear axis).
+    let (frame, record) = psd_plot(&report, &psd_options(PsdMode::Decibel), (800, 500));
+    let frame = frame.unwrap();
+    let top = record.curve().points.iter().map(|p| p.1).min().unwrap();
+    assert!(
+        (f64::from(top) - frame.py_at(0.0)).abs() <= 1.0,
+        "0 dB re 1 V^2/Hz"
+    );
+}
+
+#[test]
+fn decimation_keeps_every_column_extreme() {
+    // 100 000 points over 800 columns with a spur; the pure function on its own.
+    let n = 100_000;
+    let x: Vec<f64> = (0..n).map(|i| i as f64 * 800.0 / n as f64).collect();
+    let mut y: Vec<f64> = (0..n).map(|i| ((i * 7919) % 1000) as f64 * 1e-3).collect();
+    y[54_321] = 60.0;
+    y[777] = -60.0;
+    let kept = decimate_min_max(&x, &y);
+    assert!(kept.len() <= 4 * 800, "{}", kept.len());
+    assert!(kept.contains(&(x[54_321], 60.0)));
+    assert!(kept.contains(&(x[777], -60.0)));
+    // Each column's minimum and maximum are among the kept points of that column.
+    for column in 0..800 {
+        let in_column = |x: f64| x.floor() as usize == column;
+        let values: Vec<f64> = (0..n).filter(|&i| in_column(x[i])).map(|i| y[i]).collect();
+        let kept_values: Vec<f64> = kept
+            .iter()
+            .filter(|p| in_column(p.0))
+            .map(|p| p.1)
+            .collect();
+        let max = |v: &[f64]| v.iter().copied().fold(f64::MIN, f64::max);
+        let min = |v: &[f64]| v.iter().copied().fold(f64::MAX, f64::min);
+        assert_eq!(max(&values), max(&kept_values), "column {column}");
+        assert_eq!(min(&values), min(&kept_values), "column {column}");
+    }
+    // Kept points stay in order.
+    assert!(kept.windows(2).all(|w| w[0].0 <= w[1].0));
+}
+
+#[test]
+fn decimation_keeps_everything_when_pixels_outnumber_points() {
+    let x = [0.5, 3.2, 7.9, 12.0, 12.4];
+    let y = [1.0, -2.0, 3.0, 4.0, 5.0];
+    assert_eq!(decimate_min_max_indices(&x, &y), vec![0, 1, 2, 3, 4]);
+    assert!(decimate_min_max(&[], &[]).is_empty());
+    // Non-finite positions are skipped; lengths may differ.
+    assert_eq!(
+        decimate_min_max_indices(&[0.0, f64::NAN, 2.0], &[1.0, 2.0]),
+        vec![0]
+    );
+}
+
+#[test]
+fn y_axis_states_the_unit_of_each_mode() {
+    let report = noise_report();
+    let cases = [
+        (PsdMode::Density, "V^2/Hz", true),
+        (PsdMode::AmplitudeDensity, "V/sqrt(Hz)", true),
+        (PsdMode::PowerSpectrum, "V^2", true),
+        (PsdMode::Decibel, "dB re 1 V^2/Hz", false),
+    ];
+    for (mode, unit, log) in cases {
+        let (frame, record) = psd_plot(&report, &psd_options(mode), (800, 500));
+        let frame = frame.unwrap();
+        let description = record.y_description();
+        assert!(description.contains(unit), "{mode}: {description}");
+        assert!(
+            description.ends_with(&format!("({unit})")),
+            "{mode}: {description}"
+        );
+        assert_eq!(mode.unit(&report), unit);
+        assert_eq!(frame.y_log, log, "{mode}");
+        // The curve's value at 100 Hz in this mode is where the frame puts it.
+        let bin = noisesonde::plot::nearest_bin(&report.psd.frequency_hz, 100.0).unwrap();
+        let value = mode.value_at(&report.psd, bin).unwrap();
+        let curve = record.curve();
+        let point = curve.points[bin - 1];
+        assert!(
+            (f64::from(point.1) - frame.py_at(value)).abs() <= 1.0,
+            "{mode}"
+        );
+    }
+    // ASD = sqrt(PSD), power = PSD × ENBW (Heinzel et al. 2002, eq. 21 and 23), dB = 10 log10.
+    let p = report.psd.density[10];
+    let enbw = report.psd.enbw_hz;
+    assert_eq!(
+        PsdMode::AmplitudeDensity.value_at(&report.psd, 10),
+        Some(p.sqrt())
+    );
+    assert_eq!(
+        PsdMode::Decibel.value_at(&report.psd, 10),
+        Some(10.0 * p.log10())
+    );
+    let power = PsdMode::PowerSpectrum.value_at(&report.psd, 10).unwrap();
+    assert!((power - p * enbw).abs() <= 1e-15 * power);
+}
+
+#[test]
+fn decibels_of_full_scale_say_what_full_scale_means() {
+    let mut source = VecSource::new(noise(16 * SEGMENT_LEN, 3), FS_HZ);
+    let report = analyze(&mut source, &settings(None)).unwrap();
+    assert_eq!(report.unit, "FS");
+    let (_, record) = psd_plot(&report, &psd_options(PsdMode::Decibel), (800, 500));
+    assert!(record.y_description().contains("dB re 1 FS^2/Hz"));
+    // A full-scale sine has mean square 1/2: 10 log10(0.5) = -3.01 dB re 1 FS^2.
+    assert!(record.has_text("-3.01 dB re 1 FS^2"), "{:?}", record.texts);
+    let (_, record) = psd_plot(&report, &psd_options(PsdMode::Density), (800, 500));
+    assert!(!record.has_text("-3.01"));
+}
+
+#[test]
+fn caption_states_window_segment_rbw_segments_and_dof() {
+    let report = noise_report();
+    let (_, record) = psd_plot(&report, &PsdPlotOptions::default(), (1200, 500));
+    let caption: String = record
+        .texts
+        .iter()
+        .filter(|t| t.text.contains("Welch") || t.text.contains("dof"))
+        .map(|t| t.text.clone())
+        .collect::<Vec<_>>()
+        .join(" ");
+    // Hann: ENBW 1.5 bins × 1000/256 Hz = 5.859375 Hz (Harris 1978, Table 1).
+    for part in [
+        "hann window",
+        "segment 256 samples",
+        "RBW (ENBW) 5.859 Hz",
+        "segments",
+        "dof",
+    ] {
+        assert!(caption.contains(part), "{part} not in {caption}");
+    }
+    assert!(caption.contains(&format!("{} segments", report.psd.segments)));
+}
+
+#[test]
+fn tick_labels_are_short_and_readable() {
+    let report = spur_report(500);
+    for mode in PsdMode::ALL {
+        let (frame, record) = psd_plot(&report, &psd_options(mode), (800, 500));
+        let frame = frame.unwrap();
+        let bottom = frame.top_px + frame.height_px;
+        let x_labels: Vec<&str> = record
+            .texts
+            .iter()
+            .filter(|t| !t.rotated && f64::from(t.pos.1) > bottom && !t.text.contains("Hz"))
+            .map(|t| t.text.as_str())
+            .collect();
+        assert!(x_labels.len() >= 4, "{mode}: {x_labels:?}");
+        for label in &x_labels {
+            assert!(
+                label.len() <= 4
+                    && label
+                        .chars()
+                        .all(|c| c.is_ascii_digit() || ".kM".contains(c)),
+                "{mode}: x label {label:?}"
+            );
+        }
+        assert!(
+            x_labels.contains(&"1k") && x_labels.contains(&"10k"),
+            "{x_labels:?}"
+        );
+        let y_labels: Vec<&str> = record
+            .texts
+            .iter()
+            .filter(|t| {
+                !t.rotated && f64::from(t.pos.0) < frame.left_px && f64::from(t.pos.1) < bottom
+            })
+            .filter(|t| f64::from(t.pos.1) >= frame.top_px - 8.0)
+            .map(|t| t.text.as_str())
+            .collect();
+        assert!(y_labels.len() >= 3, "{mode}: {y_labels:?}");
+        for label in &y_labels {
+            assert!(label.len() <= 5, "{mode}: y label {label:?}");
+            assert!(label.parse::<f64>().is_ok(), "{mode}: y label {label:?}");
+        }
+    }
+}
+
+#[test]
+fn confidence_band_lies_behind_the_curve_and_can_be_hidden() {
+    let report = noise_report();
+    for mode in PsdMode::ALL {
+        let (frame, record) = psd_plot(&report, &psd_options(mode), (800, 500));
+        let frame = frame.unwrap();
+        let bands: Vec<&Shape> = record
+            .polygons
+            .iter()
+            .filter(|p| p.rgb == rgb(colours::BAND))
+            .collect();
+        assert_eq!(bands.len(), 1, "{mode}");
+        // The band's upper outline at the first bin is that bin's upper limit in this mode.
+        let bin = 1;
+        let upper = mode.from_density(report.psd.ci_upper[bin], report.psd.enbw_hz);
+        let x0 = frame.left_px as i32;
+        let top_at_first = bands[0]
+            .points
+            .iter()
+            .filter(|p| p.0 == x0)
+            .map(|p| p.1)
+            .min()
+            .unwrap();
+        assert!(
+            (f64::from(top_at_first) - frame.py_at(upper)).abs() <= 1.0,
+            "{mode}: {top_at_first} vs {}",
+            frame.py_at(upper)
+        );
+        // Drawn before the curve, which therefore lies on top.
+        let options = PsdPlotOptions {
+            show_ci: false,
+            ..psd_options(mode)
+        };
+        let (_, record) = psd_plot(&report, &options, (800, 500));
+        assert!(record.polygons.iter().all(|p| p.rgb != rgb(colours::BAND)));
+    }
+}
+
+#[test]
+fn two_cursors_shade_the_band_between_them() {
+    let report = noise_report();
+    let options = PsdPlotOptions {
+        cursors_hz: vec![200.0, 50.0],
+        ..PsdPlotOptions::default()
+    };
+    let (frame, record) = psd_plot(&report, &options, (800, 500));
+    let frame = frame.unwrap();
+    let lines = record.paths_of(colours::CURSOR);
+    let mut xs: Vec<i32> = lines.iter().map(|l| l.points[0].0).collect();
+    xs.sort();
+    assert_eq!(xs, [frame.px_at(50.0) as i32, frame.px_at(200.0) as i32]);
+    let shaded: Vec<&Shape> = record
+        .filled_rects
+        .iter()
+        .filter(|r| r.rgb == rgb(colours::CURSOR) && r.alpha < 1.0)
+        .collect();
+    assert_eq!(shaded.len(), 1);
+    let (a, b) = (shaded[0].points[0], shaded[0].points[1]);
+    assert_eq!(
+        (a.0, b.0),
+        (frame.px_at(50.0) as i32, frame.px_at(200.0) as i32)
+    );
+    assert_eq!(
+        (a.1, b.1),
+        (frame.top_px as i32, (frame.top_px + frame.height_px) as i32)
+    );
+
+    let one = PsdPlotOptions {
+        cursors_hz: vec![100.0],
+        ..PsdPlotOptions::default()
+    };
+    let (_, record) = psd_plot(&report, &one, (800, 500));
+    assert_eq!(record.paths_of(colours::CURSOR).len(), 1);
+    assert!(record
+        .filled_rects
+        .iter()
+        .all(|r| r.rgb != rgb(colours::CURSOR)));
+
+    let three = PsdPlotOptions {
+        cursors_hz: vec![1.0, 2.0, 3.0],
+        ..PsdPlotOptions::default()
+    };
+    let (result, _) = psd_plot(&report, &three, (800, 500));
+    assert_eq!(result, Err(PlotError::TooManyCursors { count: 3 }));
+}
+
+#[test]
+fn zero_and_negative_values_are_clamped_to_the_axis_floor() {
+    let mut report = noise_report();
+    for bin in [3, 4, 5] {
+        report.psd.density[bin] = 0.0;
+        report.psd.power_spectrum[bin] = 0.0;
+        report.psd.ci_lower[bin] = 0.0;
+    }
+    report.psd.density[6] = -1e-9;
+    report.psd.power_spectrum[6] = -1e-9;
+    for mode in PsdMode::ALL {
+        let (frame, record) = psd_plot(&report, &psd_options(mode), (800, 500));
+        let frame = frame.unwrap();
+        assert!(
+            frame.y_min.is_finite() && frame.y_max.is_finite(),
+            "{mode}: {frame:?}"
+        );
+        let bottom = (frame.top_px + frame.height_px) as i32;
+        let curve = record.curve();
+        assert_eq!(curve.points.len(), report.psd.frequency_hz.len() - 1);
+        for bin in [3, 4, 5, 6] {
+            if mode == PsdMode::Decibel && bin == 6 {
+                continue; // 10 log10 of a negative number is NaN: also drawn at the floor
+            }
+            assert_eq!(curve.points[bin - 1].1, bottom, "{mode}: bin {bin}");
+        }
+    }
+}
+
+#[test]
+fn an_empty_psd_is_an_error_not_a_panic() {
+    let mut report = noise_report();
+    report.psd.frequency_hz.clear();
+    report.psd.density.clear();
+    let (result, _) = psd_plot(&report, &PsdPlotOptions::default(), (800, 500));
+    let error = result.unwrap_err();
+    assert_eq!(error, PlotError::EmptyPsd);
+    assert!(error.to_string().contains("no PSD bins"), "{error}");
+
+    let mut report = noise_report();
+    report.psd.density.pop();
+    let (result, _) = psd_plot(&report, &PsdPlotOptions::default(), (800, 500));
+    assert!(matches!(
+        result,
+        Err(PlotError::LengthMismatch {
+            what: "psd.density",
+            ..
+        })
+    ));
+
+    let mut report = noise_report();
+    report.psd.frequency_hz.truncate(1);
+    report.psd.density.truncate(1);
+    report.psd.power_spectrum.truncate(1);
+    report.psd.ci_lower.truncate(1);
+    report.psd.ci_upper.truncate(1);
+    let (result, _) = psd_plot(&report, &PsdPlotOptions::default(), (800, 500));
+    assert_eq!(result, Err(PlotError::NoPositiveFrequency { bins: 1 }));
+}
+
+#[test]
+fn bad_pixel_ratio_and_tiny_areas_are_errors() {
+    let report = noise_report();
+    for pixel_ratio in [0.0, -1.0, f64::NAN, 100.0] {
+        let options = PsdPlotOptions {
+            pixel_ratio,
+            ..PsdPlotOptions::default()
+        };
+        let (result, _) = psd_plot(&report, &options, (800, 500));
+        assert!(
+            matches!(result, Err(PlotError::PixelRatio { .. })),
+            "{pixel_ratio}"
+        );
+    }
+    for size in [(40, 500), (800, 40), (1, 1), (0, 0)] {
+        let (result, _) = psd_plot(&report, &PsdPlotOptions::default(), size);
+        assert!(
+            matches!(result, Err(PlotError::AreaTooSmall { .. })),
+            "{size:?}: {result:?}"
+        );
+    }
+}
+
+#[test]
+fn pixel_ratio_scales_fonts_and_lines() {
+    let report = noise_report();
+    let sizes = |ratio: f64, size: (u32, u32)| {
+        let options = PsdPlotOptions {
+            pixel_ratio: ratio,
+            ..PsdPlotOptions::default()
+        };
+        let (frame, record) = psd_plot(&report, &options, size);
+        let font = record
+            .texts
+            .iter()
+            .find(|t| t.text == "100")
+            .map(|t| t.size_px)
+            .unwrap();
+        (frame.unwrap(), font, record.curve().width_px)
+    };
+    let (frame1, font1, width1) = sizes(1.0, (800, 500));
+    let (frame2, font2, width2) = sizes(2.0, (1600, 1000));
+    assert_eq!(font2, 2.0 * font1);
+    assert_eq!(width2, 2 * width1);
+    // Same layout at twice the pixels, to within rounding of the label areas.
+    assert!((frame2.left_px - 2.0 * frame1.left_px).abs() <= 3.0);
+    assert!((frame2.width_px - 2.0 * frame1.width_px).abs() <= 4.0);
+    assert!((frame2.height_px - 2.0 * frame1.height_px).abs() <= 4.0);
+}
+
+#[test]
+fn options_parse_from_the_pages_json() {
+    let options: PsdPlotOptions =
+        serde_json::from_str(r#"{"mode":"asd","cursors_hz":[10,20],"pixel_ratio":2}"#).unwrap();
+    assert_eq!(options.mode, PsdMode::AmplitudeDensity);
+    assert!(options.show_ci, "default kept");
+    assert_eq!(options.cursors_hz, [10.0, 20.0]);
+    let options: PsdPlotOptions = serde_json::from_str("{}").unwrap();
+    assert_eq!(options, PsdPlotOptions::default());
+    let error = serde_json::from_str::<PsdPlotOptions>(r#"{"mode":"loud"}"#).unwrap_err();
+    assert!(
+        error
+            .to_string()
+            .contains("use one of density, asd, power, db"),
+        "{error}"
+    );
+    let error = serde_json::from_str::<PsdPlotOptions>(r#"{"cursor_hz":[1]}"#).unwrap_err();
+    assert!(
+        error.to_string().contains("unknown field `cursor_hz`"),
+        "{error}"
+    );
+    assert_eq!("DB".parse::<PsdMode>(), Ok(PsdMode::Decibel));
+    assert_eq!(
+        serde_json::to_string(&PsdMode::PowerSpectrum).unwrap(),
+        r#""power""#
+    );
+    let options: AcfPlotOptions = serde_json::from_str(r#"{"mode":"autocovariance"}"#).unwrap();
+    assert_eq!(options.mode, AcfMode::Autocovariance);
+    assert!("correlation".parse::<AcfMode>().is_err());
+}
+
+// ---------------------------------------------------------------------------------------------
+// ACF.
+
+/// The ACF of a sine of frequency f is (A²/2)·cos(2π f τ), so its coefficient falls to 1/e at
+/// τ = arccos(1/e)/(2π f) and first crosses zero at τ = 1/(4 f) (e.g. Bendat & Piersol 2010,
+/// "Random Data", §5.1). The biased estimate tapers by (1 − τ/T), which moves these by well
+/// under a sample here.
+fn tone_report() -> Report {
+    let f = 50.0;
+    let samples: Vec<f64> = (0..16 * SEGMENT_LEN)
+        .map(|n| 0.5 * (2.0 * std::f64::consts::PI * f * n as f64 / FS_HZ).sin())
+        .collect();
+    let mut source = VecSource::new(samples, FS_HZ);
+    analyze(&mut source, &settings(Some("V"))).unwrap()
+}
+
+#[test]
+fn acf_markers_appear_where_the_report_has_them() {
+    let report = tone_report();
+    let one_over_e_s = report.acf.one_over_e_s.unwrap();
+    let zero_s = report.acf.zero_crossing_s.unwrap();
+    let period_s = 1.0 / FS_HZ;
+    assert!(
+        (one_over_e_s - (-1f64).exp().acos() / (2.0 * std::f64::consts::PI * 50.0)).abs()
+            < period_s
+    );
+    assert!((zero_s - 1.0 / 200.0).abs() < period_s);
+
+    let (frame, record) = acf_plot(&report, &AcfPlotOptions::default());
+    let frame = frame.unwrap();
+    assert!(!frame.x_log && !frame.y_log);
+    assert_eq!(frame.x_min, 0.0);
+    assert_eq!(frame.x_max, *report.acf.lag_s.last().unwrap());
+    assert!(record.has_text("1/e"), "{:?}", record.texts);
+    assert!(record.has_text("first zero"));
+    for (colour, lag_s) in [
+        (colours::ONE_OVER_E, one_over_e_s),
+        (colours::FIRST_ZERO, zero_s),
+    ] {
+        let marker = record.paths_of(colour);
+        assert_eq!(marker.len(), 1);
+        // plotters floors the position plus 0.001 pixel.
+        assert!((f64::from(marker[0].points[0].0) - frame.px_at(lag_s)).abs() <= 1.0);
+    }
+    // The zero line spans the plot at y = 0.
+    let zero = record.paths_of(colours::ZERO_LINE);
+    assert_eq!(zero.len(), 1);
+    assert!((f64::from(zero[0].points[0].1) - frame.py_at(0.0)).abs() <= 1.0);
+    // Lags are labelled in ms (the largest lag is 256 ms).
+    assert!(record.has_text("lag (ms)"));
+    assert!(record.y_description().contains("coefficient"));
+
+    let mut bare = report.clone();
+    bare.acf.one_over_e_s = None;
+    bare.acf.zero_crossing_s = None;
+    let (_, record) = acf_plot(&bare, &AcfPlotOptions::default());
+    assert!(!record.has_text("1/e") && !record.has_text("first zero"));
+    assert!(record.paths_of(colours::ONE_OVER_E).is_empty());
+}
+
+#[test]
+fn acf_y_axis_states_the_unit_of_each_mode() {
+    let report = tone_report();
+    for (mode, unit) in [
+        (AcfMode::Coefficient, "(dimensionless)"),
+        (AcfMode::Autocovariance, "(V^2)"),
+        (AcfMode::Autocorrelation, "(V^2)"),
+    ] {
+        let options = AcfPlotOptions {
+            mode,
+            ..AcfPlotOptions::default()
+        };
+        let (frame, record) = acf_plot(&report, &options);
+        let frame = frame.unwrap();
+        assert!(record.y_description().contains(unit), "{mode}");
+        // R(0) of a 0.5-amplitude sine is its mean square, 0.125 V^2; the curve starts there.
+        let first = record.curve().points[0];
+        let value0 = mode.values(&report.acf)[0];
+        assert!(
+            (f64::from(first.1) - frame.py_at(value0)).abs() <= 1.0,
+            "{mode}"
+        );
+    }
+    assert!((report.acf.autocorrelation[0] - 0.125).abs() < 1e-12);
+}
+
+#[test]
+fn an_empty_acf_is_an_error() {
+    let mut report = tone_report();
+    report.acf.lag_s.clear();
+    let (result, _) = acf_plot(&report, &AcfPlotOptions::default());
+    assert_eq!(result, Err(PlotError::EmptyAcf));
+}
+
+// ---------------------------------------------------------------------------------------------
+// A real backend.
+
+#[test]
+fn draws_svg_with_a_real_backend() {
+    use plotters::prelude::SVGBackend;
+    let report = noise_report();
+    let mut svg = String::new();
+    {
+        let area = SVGBackend::with_string(&mut svg, (800, 500)).into_drawing_area();
+        let options = PsdPlotOptions {
+            mode: PsdMode::AmplitudeDensity,
+            cursors_hz: vec![20.0, 200.0],
+            ..PsdPlotOptions::default()
+        };
+        draw_psd(&area, &report, &options).unwrap();
+    }
+    assert!(svg.starts_with("<svg"));
+    assert!(svg.contains("V/sqrt(Hz)") && svg.contains("frequency (Hz)"));
+    assert!(!svg.contains("NaN"));
+    let mut acf_svg = String::new();
+    {
+        let area = SVGBackend::with_string(&mut acf_svg, (800, 400)).into_drawing_area();
+        draw_acf(&area, &tone_report(), &AcfPlotOptions::default()).unwrap();
+    }
+    assert!(acf_svg.contains("first zero"));
+    // For a look by eye: NOISESONDE_PLOT_DIR=/tmp/plots cargo test --test plot
+    if let Some(dir) = std::env::var_os("NOISESONDE_PLOT_DIR") {
+        let dir = std::path::PathBuf::from(dir);
+        std::fs::create_dir_all(&dir).unwrap();
+        std::fs::write(dir.join("psd.svg"), &svg).unwrap();
+        std::fs::write(dir.join("acf.svg"), &acf_svg).unwrap();
+        let mut source = VecSource::new(noise(16 * SEGMENT_LEN, 3), FS_HZ);
+        let full_scale = analyze(&mut source, &settings(None)).unwrap();
+        for (name, report, mode) in [
+            ("psd-db-fs.svg", &full_scale, PsdMode::Decibel),
+            ("psd-spur.svg", &spur_report(12_345), PsdMode::Density),
+        ] {
+            let mut text = String::new();
+            {
+                let area = SVGBackend::with_string(&mut text, (800, 500)).into_drawing_area();
+                draw_psd(&area, report, &psd_options(mode)).unwrap();
+            }
+            std::fs::write(dir.join(name), text).unwrap();
+        }
+    }
+}
