@@ -78,7 +78,13 @@ pub fn draw_acf<DB: DrawingBackend>(
     let (time_factor, time_name) = time_unit(x_hi.abs().max(x_lo.abs()));
 
     let caption = vec![
-        format!("{} autocorrelation", acf.estimator),
+        match options.mode {
+            super::AcfMode::Coefficient => {
+                format!("{} autocorrelation coefficient C(τ)/C(0)", acf.estimator)
+            }
+            super::AcfMode::Autocovariance => format!("{} autocovariance C(τ)", acf.estimator),
+            super::AcfMode::Autocorrelation => format!("{} autocorrelation R(τ)", acf.estimator),
+        },
         format!("largest lag {}", format_seconds(acf.max_lag_s)),
         format!("{} samples at {} Hz", report.samples, report.sample_rate_hz),
     ];

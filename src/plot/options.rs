@@ -235,15 +235,12 @@ impl AcfMode {
         }
     }
 
-    /// The y-axis description, e.g. `autocovariance C(τ) (V^2)`; the coefficient is marked
-    /// dimensionless.
+    /// The y-axis description, short enough to run along a low plot: `coefficient
+    /// (dimensionless)`, `autocovariance (V^2)`, `autocorrelation (V^2)`.
     pub fn axis_label(self, report: &Report) -> String {
         match self {
-            AcfMode::Coefficient => {
-                "autocorrelation coefficient C(τ)/C(0) (dimensionless)".to_string()
-            }
-            AcfMode::Autocovariance => format!("autocovariance C(τ) ({})", self.unit(report)),
-            AcfMode::Autocorrelation => format!("autocorrelation R(τ) ({})", self.unit(report)),
+            AcfMode::Coefficient => "coefficient (dimensionless)".to_string(),
+            _ => format!("{} ({})", self.name(), self.unit(report)),
         }
     }
 }
