@@ -20,6 +20,8 @@ pub mod report;
 pub mod spectral;
 pub mod units;
 pub mod window;
+#[cfg(all(target_arch = "wasm32", feature = "web"))]
+pub mod web;
 
 pub use analysis::{analyze, Analyzer, Settings};
 pub use error::{AnalysisError, Error, SettingsError};

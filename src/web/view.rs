@@ -1,0 +1,167 @@
+//! A report on the main thread: plots on canvases and read-outs for the page.
+
+use plotters::prelude::IntoDrawingArea;
+use plotters_canvas::CanvasBackend;
+use wasm_bindgen::prelude::*;
+use web_sys::HtmlCanvasElement;
+
+use crate::bands;
+use crate::plot::{
+    draw_acf, draw_psd, nearest_bin, AcfPlotOptions, PlotFrame, PsdMode, PsdPlotOptions,
+};
+use crate::report::Report;
+
+/// A report read back from JSON, with the frames of the plots last drawn from it.
+///
+/// Drawing needs the main thread: plotters measures text through the DOM.
+#[wasm_bindgen]
+pub struct ReportView {
+    report: Report,
+    psd_frame: Option<PlotFrame>,
+    acf_frame: Option<PlotFrame>,
+}
+
+#[wasm_bindgen]
+impl ReportView {
+    /// Reads a report from the JSON text that `analyze_file` (or the command line) wrote.
+    ///
+    /// # Errors
+    /// When the text is not such a report.
+    pub fn from_json(text: &str) -> Result<ReportView, JsError> {
+        let report: Report = serde_json::from_str(text)
+            .map_err(|e| JsError::new(&format!("the report could not be read: {e}")))?;
+        Ok(ReportView {
+            report,
+            psd_frame: None,
+            acf_frame: None,
+        })
+    }
+
+    /// Draws the PSD on `canvas` at its backing-store size (`canvas.width` × `canvas.height`;
+    /// the page sets these to CSS size × devicePixelRatio and passes that ratio as
+    /// `pixel_ratio`). `options_json`: `{"mode": "density"|"asd"|"power"|"db", "show_ci": bool,
+    /// "cursors_hz": [f1, f2], "pixel_ratio": number}`, every field optional.
+    ///
+    /// # Errors
+    /// Unreadable options, a canvas without a 2D context, or a plot error.
+    pub fn draw_psd(
+        &mut self,
+        canvas: &HtmlCanvasElement,
+        options_json: &str,
+    ) -> Result<(), JsError> {
+        let options: PsdPlotOptions = parse_options(options_json, "PSD plot options")?;
+        let area = canvas_area(canvas)?;
+        let frame =
+            draw_psd(&area, &self.report, &options).map_err(|e| JsError::new(&e.to_string()))?;
+        self.psd_frame = Some(frame);
+        Ok(())
+    }
+
+    /// Draws the autocorrelation on `canvas` at its backing-store size. `options_json`:
+    /// `{"mode": "coefficient"|"autocovariance"|"autocorrelation", "pixel_ratio": number}`,
+    /// every field optional.
+    ///
+    /// # Errors
+    /// Unreadable options, a canvas without a 2D context, or a plot error.
+    pub fn draw_acf(
+        &mut self,
+        canvas: &HtmlCanvasElement,
+        options_json: &str,
+    ) -> Result<(), JsError> {
+        let options: AcfPlotOptions = parse_options(options_json, "ACF plot options")?;
+        let area = canvas_area(canvas)?;
+        let frame =
+            draw_acf(&area, &self.report, &options).map_err(|e| JsError::new(&e.to_string()))?;
+        self.acf_frame = Some(frame);
+        Ok(())
+    }
+
+    /// The frequency (Hz) under horizontal position `x_css_px` (CSS pixels from the canvas's
+    /// left edge) of the PSD last drawn; NaN outside its plotting area or before any drawing.
+    pub fn frequency_at(&self, x_css_px: f64, pixel_ratio: f64) -> f64 {
+        value_at(self.psd_frame.as_ref(), x_css_px, pixel_ratio)
+    }
+
+    /// The lag (s) under horizontal position `x_css_px` of the ACF last drawn; NaN outside its
+    /// plotting area or before any drawing.
+    pub fn lag_at(&self, x_css_px: f64, pixel_ratio: f64) -> f64 {
+        value_at(self.acf_frame.as_ref(), x_css_px, pixel_ratio)
+    }
+
+    /// The value of the bin nearest `frequency_hz` in the unit of `mode` (see `unit_label`);
+    /// NaN for a non-finite frequency.
+    ///
+    /// # Errors
+    /// An unknown mode.
+    pub fn psd_value_at(&self, frequency_hz: f64, mode: &str) -> Result<f64, JsError> {
+        let mode = parse_mode(mode)?;
+        Ok(nearest_bin(&self.report.psd.frequency_hz, frequency_hz)
+            .and_then(|bin| mode.value_at(&self.report.psd, bin))
+            .unwrap_or(f64::NAN))
+    }
+
+    /// The frequency (Hz) of the bin nearest `frequency_hz`; NaN for a non-finite frequency.
+    pub fn bin_frequency_at(&self, frequency_hz: f64) -> f64 {
+        let f = &self.report.psd.frequency_hz;
+        nearest_bin(f, frequency_hz)
+            .and_then(|bin| f.get(bin).copied())
+            .unwrap_or(f64::NAN)
+    }
+
+    /// RMS between two frequencies (either order), in the report's unit: √ of `band_power`.
+    pub fn band_rms(&self, f_lo_hz: f64, f_hi_hz: f64) -> f64 {
+        bands::band_rms(&self.report.psd, f_lo_hz, f_hi_hz)
+    }
+
+    /// Power between two frequencies (either order), in the report's unit squared, integrated
+    /// from the PSD with partial edge bins.
+    pub fn band_power(&self, f_lo_hz: f64, f_hi_hz: f64) -> f64 {
+        bands::band_power(&self.report.psd, f_lo_hz, f_hi_hz)
+    }
+
+    /// The unit of `mode`'s values, e.g. `V^2/Hz`, `V/sqrt(Hz)`, `V^2`, `dB re 1 V^2/Hz`.
+    ///
+    /// # Errors
+    /// An unknown mode.
+    pub fn unit_label(&self, mode: &str) -> Result<String, JsError> {
+        Ok(parse_mode(mode)?.unit(&self.report))
+    }
+}
+
+/// The whole backing store of `canvas` as a drawing area.
+fn canvas_area(
+    canvas: &HtmlCanvasElement,
+) -> Result<plotters::drawing::DrawingArea<CanvasBackend, plotters::coord::Shift>, JsError> {
+    CanvasBackend::with_canvas_object(canvas.clone())
+        .map(IntoDrawingArea::into_drawing_area)
+        .ok_or_else(|| JsError::new("the canvas has no 2D drawing context"))
+}
+
+/// Plot options from the page's JSON; empty text means the defaults.
+fn parse_options<T: serde::de::DeserializeOwned + Default>(
+    text: &str,
+    what: &str,
+) -> Result<T, JsError> {
+    if text.trim().is_empty() {
+        return Ok(T::default());
+    }
+    serde_json::from_str(text).map_err(|e| JsError::new(&format!("{what}: {e}")))
+}
+
+fn parse_mode(text: &str) -> Result<PsdMode, JsError> {
+    text.parse::<PsdMode>()
+        .map_err(|e| JsError::new(&e.to_string()))
+}
+
+/// The data x under a CSS-pixel position in `frame`, or NaN.
+fn value_at(frame: Option<&PlotFrame>, x_css_px: f64, pixel_ratio: f64) -> f64 {
+    let Some(frame) = frame else {
+        return f64::NAN;
+    };
+    let px = x_css_px * pixel_ratio;
+    if px.is_finite() && frame.contains_px(px) {
+        frame.x_at(px)
+    } else {
+        f64::NAN
+    }
+}
