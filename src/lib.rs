@@ -12,6 +12,7 @@ pub mod acf;
 pub mod analysis;
 pub mod bands;
 pub mod error;
+pub mod export;
 pub mod io;
 pub mod moments;
 mod numeric;
@@ -19,9 +20,9 @@ pub mod plot;
 pub mod report;
 pub mod spectral;
 pub mod units;
-pub mod window;
 #[cfg(all(target_arch = "wasm32", feature = "web"))]
 pub mod web;
+pub mod window;
 
 pub use analysis::{analyze, Analyzer, Settings};
 pub use error::{AnalysisError, Error, SettingsError};

@@ -126,6 +126,16 @@ impl ReportView {
     pub fn unit_label(&self, mode: &str) -> Result<String, JsError> {
         Ok(parse_mode(mode)?.unit(&self.report))
     }
+
+    /// The PSD as CSV, the same text the command line's `--csv` writes.
+    pub fn psd_csv(&self) -> String {
+        crate::export::psd_csv(&self.report)
+    }
+
+    /// The autocorrelation as CSV, the same text the command line's `--csv` writes.
+    pub fn acf_csv(&self) -> String {
+        crate::export::acf_csv(&self.report)
+    }
 }
 
 /// The whole backing store of `canvas` as a drawing area.
