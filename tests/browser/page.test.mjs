@@ -133,9 +133,11 @@ test('cursors give the band RMS of the command line\'s PSD', async () => {
   const page = await context.newPage();
   await page.goto(SITE_URL);
   await waitForReport(page, 'preamp-shorted-input');
-  const box = await page.locator('#psd-canvas').boundingBox();
-  await page.mouse.click(box.x + box.width * 0.3, box.y + box.height / 2);
-  await page.mouse.click(box.x + box.width * 0.7, box.y + box.height / 2);
+  const canvas = page.locator('#psd-canvas');
+  await canvas.scrollIntoViewIfNeeded();
+  const box = await canvas.boundingBox();
+  await canvas.click({ position: { x: box.width * 0.3, y: box.height / 2 } });
+  await canvas.click({ position: { x: box.width * 0.7, y: box.height / 2 } });
   const q = await pageQuantities(page);
   const a = q['cursor.a.frequency_hz'];
   const b = q['cursor.b.frequency_hz'];
