@@ -621,7 +621,14 @@ fn build_site(ctx: &Ctx) -> Result<PathBuf, Failure> {
         .join("release/noisesonde.wasm");
     ctx.tool(
         "wasm-bindgen",
-        &["--target", "web", "--no-typescript", "--out-dir"],
+        // The name section is a fifth of the module; panic messages stay readable without it.
+        &[
+            "--target",
+            "web",
+            "--no-typescript",
+            "--remove-name-section",
+            "--out-dir",
+        ],
     )
     .arg(site.join(PKG_DIR))
     .arg(&wasm)
@@ -750,7 +757,13 @@ fn dist_single(ctx: &Ctx) -> Result<PathBuf, Failure> {
         .join("release/noisesonde.wasm");
     ctx.tool(
         "wasm-bindgen",
-        &["--target", "no-modules", "--no-typescript", "--out-dir"],
+        &[
+            "--target",
+            "no-modules",
+            "--no-typescript",
+            "--remove-name-section",
+            "--out-dir",
+        ],
     )
     .arg(&glue_dir)
     .arg(&wasm)
