@@ -69,6 +69,8 @@ const state = {
   activeCursor: 0,
   /** @type {{ id: number, started: number } | null} */ running: null,
   requestId: 0,
+  /** The scale and unit fields still hold the demo's calibration, untouched by the user. */
+  demoCalibration: false,
 };
 
 // ---------------------------------------------------------------- worker lifecycle
@@ -276,23 +278,21 @@ function showReport(json) {
 /** @param {any} r */
 function renderRunLine(r) {
   const p = r.psd;
+  const windowName = `${p.window.name}${p.window.beta !== undefined ? ` β=${p.window.beta}` : ''}`;
+  /** @type {(string | Node)[]} */
   const parts = [
-    ['', 'sample rate ', quantity('sample_rate_hz', r.sample_rate_hz, 'Hz')],
-    ['', ', ', quantity('samples', r.samples), ' samples ('],
-    ['', '', quantity('duration_s', r.duration_s, 's'), '). '],
-    ['', `Window ${p.window.name}${p.window.beta !== undefined ? ` β=${p.window.beta}` : ''}, segment `, quantity('psd.segment_len', p.segment_len), ', overlap '],
-    ['', '', quantity('psd.overlap_len', p.overlap_len), ' samples, ENBW '],
-    ['', '', quantity('psd.enbw_bins', p.enbw_bins, 'bins'), ' = RBW '],
-    ['', '', quantity('psd.enbw_hz', p.enbw_hz, 'Hz'), ', '],
-    ['', '', quantity('psd.segments', p.segments), ' segments, '],
-    ['', '', quantity('psd.dof', p.dof), ` degrees of freedom; ${Math.round(p.confidence_level * 100)} % interval ×`],
-    ['', '', quantity('psd.ci_factor_lower', p.ci_factor_lower), ' to ×'],
-    ['', '', quantity('psd.ci_factor_upper', p.ci_factor_upper), '.'],
+    'sample rate ', quantity('sample_rate_hz', r.sample_rate_hz, 'Hz'),
+    ', ', quantity('samples', r.samples), ' samples (', quantity('duration_s', r.duration_s, 's'), '). ',
+    `Window ${windowName}, segment `, quantity('psd.segment_len', p.segment_len),
+    ', overlap ', quantity('psd.overlap_len', p.overlap_len), ' samples, ENBW ',
+    quantity('psd.enbw_bins', p.enbw_bins, 'bins'), ' = RBW ', quantity('psd.enbw_hz', p.enbw_hz, 'Hz'), ', ',
+    quantity('psd.segments', p.segments), ' segments, ', quantity('psd.dof', p.dof),
+    ` degrees of freedom; ${Math.round(p.confidence_level * 100)} % interval ×`,
+    quantity('psd.ci_factor_lower', p.ci_factor_lower), ' to ×', quantity('psd.ci_factor_upper', p.ci_factor_upper), '. ',
+    'Calibration: ', quantity('calibration.scale_units_per_fs', r.calibration.scale_units_per_fs, r.unit),
+    r.source.full_scale ? ' per digital full scale.' : ' per input unit.',
   ];
-  $.runLine.replaceChildren();
-  for (const [, before, node, after] of parts) {
-    $.runLine.append(String(before), /** @type {Node} */ (node), String(after ?? ''));
-  }
+  $.runLine.replaceChildren(...parts);
 }
 
 /** @param {string[]} warnings */
@@ -477,20 +477,34 @@ async function loadDemo() {
 }
 
 async function main() {
-  wasmModule = await WebAssembly.compile(await wasmBytes());
-  await init({ module_or_path: wasmModule });
-  startWorker();
+  // Settings from a shared link first, before anything waits, so the form shows them at once.
   const fromLink = applyFragment();
   if (!fromLink) {
     $.scale.value = DEMO.scale;
     $.unit.value = DEMO.unit;
+    state.demoCalibration = true;
   }
   updateDerived();
   updateShareLink();
+  wasmModule = await WebAssembly.compile(await wasmBytes());
+  await init({ module_or_path: wasmModule });
+  startWorker();
 
+  /** A new recording does not inherit the demo's 2 V calibration unless the user set it. */
+  const openOwn = (/** @type {File} */ file) => {
+    if (state.demoCalibration) {
+      $.scale.value = '1';
+      $.unit.value = '';
+      state.demoCalibration = false;
+    }
+    analyze(file);
+  };
+  for (const input of [$.scale, $.unit]) {
+    input.addEventListener('input', () => { state.demoCalibration = false; });
+  }
   $.fileInput.addEventListener('change', () => {
     const file = $.fileInput.files?.[0];
-    if (file) analyze(file);
+    if (file) openOwn(file);
   });
   $.dropZone.addEventListener('dragover', (event) => {
     event.preventDefault();
@@ -501,7 +515,7 @@ async function main() {
     event.preventDefault();
     $.dropZone.classList.remove('dragging');
     const file = event.dataTransfer?.files?.[0];
-    if (file) analyze(file);
+    if (file) openOwn(file);
   });
   $.cancel.addEventListener('click', cancelRun);
   $.form.addEventListener('submit', (event) => {

@@ -22,6 +22,8 @@ const REL = 1e-12;
 /** Longest wait for an analysis in the page. */
 const ANALYSIS_TIMEOUT_MS = 60_000;
 
+const CHROMIUM_ARGS = ['--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run',
+  '--disable-background-networking', '--disable-component-update', '--disable-sync'];
 let context;
 const requests = [];
 
@@ -30,8 +32,7 @@ before(async () => {
   context = await chromium.launchPersistentContext(mkdtempSync(join(tmpdir(), 'noisesonde-chromium-')), {
     executablePath: CHROMIUM,
     headless: true,
-    args: ['--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run',
-      '--disable-background-networking', '--disable-component-update', '--disable-sync'],
+    args: CHROMIUM_ARGS,
   });
   context.on('request', (r) => requests.push({ url: r.url(), method: r.method() }));
 });
@@ -111,10 +112,11 @@ test('a file chosen in the picker gives the numbers of the command line; a bad f
   let seed = 12345;
   const noise = () => { seed = (seed * 1103515245 + 12345) % 2147483648; return seed / 2147483648 - 0.5; };
   writeWav(wav, Array.from({ length: 40000 }, (_, n) => 0.3 * Math.sin(2 * Math.PI * 440 * n / rate) + 0.1 * noise()), rate);
-  // The page keeps the demo's calibration fields (2 V, unit V) for the next file.
+  // A new recording does not inherit the demo's calibration (2 V per full scale): it is in FS.
   await page.setInputFiles('#file-input', wav);
   await waitForReport(page, 'bench-fan.wav');
-  const expected = cliReport(wav, '--scale', '2', '--unit', 'V');
+  const expected = cliReport(wav);
+  assert.equal(expected.unit, 'FS');
   const before = await pageQuantities(page);
   assertMatchesReport(before, expected);
 
@@ -158,16 +160,28 @@ test('cursors give the band RMS of the command line\'s PSD', async () => {
   await page.close();
 });
 
-test('screenshots at 1x and 2x pixel ratios', async () => {
-  for (const scale of [1, 2]) {
-    const page = await context.newPage({ deviceScaleFactor: scale });
-    await page.setViewportSize({ width: 1100, height: 900 });
-    await page.goto(SITE_URL);
-    await waitForReport(page, 'preamp-shorted-input');
-    const size = await page.$eval('#psd-canvas', (c) => [c.width, c.clientWidth, window.devicePixelRatio]);
-    await page.screenshot({ path: join(ARTIFACTS, `page-${scale}x.png`), fullPage: true });
-    assert.equal(size[0], Math.round(size[1] * size[2]), 'canvas backing store follows devicePixelRatio');
-    await page.close();
+test('screenshots at 1x and 2x pixel ratios; the canvas backing store follows the ratio', async () => {
+  const browser = await chromium.launch({ executablePath: CHROMIUM, headless: true, args: CHROMIUM_ARGS });
+  try {
+    for (const scale of [1, 2]) {
+      const ctx = await browser.newContext({ deviceScaleFactor: scale, viewport: { width: 1100, height: 900 } });
+      const page = await ctx.newPage();
+      await page.goto(SITE_URL);
+      await waitForReport(page, 'preamp-shorted-input');
+      const [backing, css, ratio] = await page.$eval('#psd-canvas', (c) => [c.width, c.clientWidth, window.devicePixelRatio]);
+      assert.equal(ratio, scale);
+      assert.equal(backing, Math.round(css * scale), 'canvas backing store = CSS width × devicePixelRatio');
+      await page.screenshot({ path: join(ARTIFACTS, `page-${scale}x.png`), fullPage: true });
+      // A tablet-width view keeps everything reachable (no horizontal scrolling).
+      await page.setViewportSize({ width: 768, height: 1024 });
+      await page.waitForTimeout(300);
+      const overflow = await page.evaluate(() => document.documentElement.scrollWidth - window.innerWidth);
+      assert.ok(overflow <= 0, `page is ${overflow} px wider than a 768 px viewport`);
+      await page.screenshot({ path: join(ARTIFACTS, `page-tablet-${scale}x.png`), fullPage: true });
+      await ctx.close();
+    }
+  } finally {
+    await browser.close();
   }
 });
 
@@ -201,5 +215,78 @@ test('the single file works from file:// with no network at all', { skip: !proce
   const remote = seen.filter((u) => !(u.startsWith('file:') || u.startsWith('blob:') || u.startsWith('data:')));
   assert.deepEqual(remote, []);
   await page.screenshot({ path: join(ARTIFACTS, 'single-file.png'), fullPage: true });
+  await page.close();
+});
+
+test('a raw file is read with the layout form, and the settings link reproduces the view', async () => {
+  const page = await context.newPage();
+  await page.goto(SITE_URL);
+  await waitForReport(page, 'preamp-shorted-input');
+  const dir = mkdtempSync(join(tmpdir(), 'noisesonde-raw-'));
+  const raw = join(dir, 'adc-capture.bin');
+  const rate = 250000;
+  const frames = 200000;
+  const data = Buffer.alloc(frames * 2 * 2); // two interleaved i16le channels
+  let seed = 777;
+  for (let n = 0; n < frames; n += 1) {
+    seed = (seed * 1103515245 + 12345) % 2147483648;
+    data.writeInt16LE(Math.round(8000 * Math.sin(2 * Math.PI * 1000 * n / rate)), 4 * n);
+    data.writeInt16LE(Math.round((seed / 2147483648 - 0.5) * 3000), 4 * n + 2);
+  }
+  writeFileSync(raw, data);
+  await page.selectOption('#raw-format', 'i16le');
+  await page.fill('#raw-channels', '2');
+  await page.fill('#sample-rate', String(rate));
+  await page.fill('#channel', '1');
+  await page.selectOption('#window', 'blackman-harris');
+  await page.selectOption('#segment', '8192');
+  await page.fill('#overlap', '0.75');
+  await page.fill('#scale', '1');
+  await page.fill('#unit', 'V');
+  await page.setInputFiles('#file-input', raw);
+  await waitForReport(page, 'adc-capture.bin');
+  const expected = cliReport(raw, '--raw', 'i16le', '--channels', '2', '--channel', '1', '--sample-rate', String(rate),
+    '--window', 'blackman-harris', '--segment', '8192', '--overlap', '0.75', '--unit', 'V');
+  assertMatchesReport(await pageQuantities(page), expected);
+
+  // The link carries the settings (never the data): a fresh page opened with it shows them.
+  const link = await page.getAttribute('#share-link', 'href');
+  assert.match(link, /window=blackman-harris/);
+  assert.match(link, /segment=8192/);
+  assert.doesNotMatch(link, /adc-capture/);
+  const again = await context.newPage();
+  await again.goto(new URL(link, SITE_URL).href);
+  assert.equal(await again.inputValue('#window'), 'blackman-harris');
+  assert.equal(await again.inputValue('#segment'), '8192');
+  assert.equal(await again.inputValue('#overlap'), '0.75');
+  await again.close();
+  await page.close();
+});
+
+test('a long analysis shows progress and can be cancelled, keeping the previous result', async () => {
+  const page = await context.newPage();
+  await page.goto(SITE_URL);
+  await waitForReport(page, 'preamp-shorted-input');
+  const before = await pageQuantities(page);
+  const dir = mkdtempSync(join(tmpdir(), 'noisesonde-long-'));
+  const big = join(dir, 'long-capture.f32');
+  writeFileSync(big, Buffer.alloc(384 * 1024 * 1024)); // 100 M samples of f32 silence
+  await page.selectOption('#raw-format', 'f32le');
+  await page.fill('#sample-rate', '1000000');
+  await page.setInputFiles('#file-input', big);
+  await page.waitForFunction(() => {
+    const text = document.getElementById('progress-text')?.textContent ?? '';
+    return /MB/.test(text) && !document.getElementById('progress')?.hidden;
+  }, null, { timeout: ANALYSIS_TIMEOUT_MS });
+  await page.click('#cancel-button');
+  await page.waitForSelector('#error-box:not([hidden])');
+  assert.match(await page.textContent('#error-box'), /cancelled/i);
+  assert.equal(await page.locator('#progress').isHidden(), true);
+  assert.deepEqual(await pageQuantities(page), before);
+  // The page still works after a cancel: analyse the demo again.
+  await page.selectOption('#raw-format', '');
+  await page.fill('#sample-rate', '');
+  await page.setInputFiles('#file-input', DEMO);
+  await waitForReport(page, 'preamp-shorted-input');
   await page.close();
 });
