@@ -407,11 +407,20 @@ function onPsdClick(event) {
 /** @param {KeyboardEvent} event */
 function onPsdKey(event) {
   if (!state.view || !state.report) return;
+  const step = state.report.psd.bin_width_hz;
+  if (event.key === 'Enter' || event.key === ' ') {
+    // Keyboard placement: a new cursor starts in the middle of the band, then arrows move it.
+    event.preventDefault();
+    state.cursors[state.activeCursor] = state.report.psd.frequency_hz[Math.floor(state.report.psd.frequency_hz.length / 2)];
+    state.activeCursor = 1 - state.activeCursor;
+    drawPlots();
+    updateShareLink();
+    return;
+  }
   const index = 1 - state.activeCursor; // the cursor placed last
   const f = state.cursors[index];
   if (f === null || (event.key !== 'ArrowLeft' && event.key !== 'ArrowRight')) return;
   event.preventDefault();
-  const step = state.report.psd.bin_width_hz;
   const next = f + (event.key === 'ArrowRight' ? step : -step);
   state.cursors[index] = Math.max(step, Math.min(state.report.sample_rate_hz / 2, next));
   drawPlots();
