@@ -474,11 +474,12 @@ function wireExports() {
 }
 
 // ---------------------------------------------------------------- start
-async function loadDemo() {
+/** @param {Promise<File>} demo */
+async function loadDemo(demo) {
   $.progress.hidden = false;
   $.progressText.textContent = 'loading the demo recording…';
   try {
-    analyze(await demoFile());
+    analyze(await demo);
   } catch (err) {
     $.progress.hidden = true;
     showError(`The demo recording could not be loaded (${err instanceof Error ? err.message : err}); choose a file instead.`);
@@ -495,6 +496,9 @@ async function main() {
   }
   updateDerived();
   updateShareLink();
+  // The demo downloads while the engine compiles.
+  const demo = demoFile();
+  demo.catch(() => {}); // reported by loadDemo
   wasmModule = await WebAssembly.compile(await wasmBytes());
   await init({ module_or_path: wasmModule });
   startWorker();
@@ -544,7 +548,7 @@ async function main() {
     resizeTimer = window.setTimeout(drawPlots, 150);
   });
   wireExports();
-  await loadDemo();
+  await loadDemo(demo);
 }
 
 main().catch((err) => showError(`The page could not start: ${err instanceof Error ? err.message : err}`));

@@ -6,7 +6,9 @@
 //!   127.0.0.1, after showing the CLI's analysis of the demo recording.
 //! - `dist`  — writes `dist/site/`, a folder any static host can serve (relative URLs only),
 //!   and `dist/noisesonde.html`, one file with everything inside that works from file://.
-//! - `bench` — builds the streaming benchmark example and runs `xtask/bench.py`.
+//! - `bench` — builds the streaming benchmark example and runs `xtask/bench.py` (native vs
+//!   numpy/scipy, `target/bench-results.md`), then `xtask/bench_page.mjs` (the page in headless
+//!   Chromium vs the native CLI, `target/bench-page.md`).
 //! - `help`  — lists the tasks.
 //! - `measure REPORT -- PROGRAM ARGS…` — internal, for `bench.py`: runs one program and writes its
 //!   wall time and peak resident memory to REPORT (see [`measure`]).
@@ -48,8 +50,9 @@ tasks:
          http://127.0.0.1:PORT/ (PORT from NOISESONDE_PORT, default 8000 or the next free one)
   dist   write dist/site/, the static page for any web host, and dist/noisesonde.html,
          one self-contained file that works when opened from disk (file://)
-  bench  build examples/bench.rs (release) and compare it with numpy/scipy via xtask/bench.py;
-         writes target/bench-results.md
+  bench  build examples/bench.rs (release) and compare it with numpy/scipy via xtask/bench.py
+         (target/bench-results.md); then time the page in headless Chromium against the
+         native CLI via xtask/bench_page.mjs (target/bench-page.md)
   help   show this text
 
 internal (used by xtask/bench.py):
@@ -579,6 +582,20 @@ fn ensure_wasm_bindgen(ctx: &Ctx) -> Result<(), Failure> {
         .run()
 }
 
+/// binaryen's wasm-opt from the npm package in tests/browser (Debian's binaryen is too old to
+/// read current rustc output; see the shared toolchain notes).
+const WASM_OPT: &str = "tests/browser/node_modules/.bin/wasm-opt";
+
+/// Runs `wasm-opt -O3` over a wasm-bindgen output in place: smaller (the page's module stays
+/// under 1 MB) and no slower. The features come from the module's target_features section.
+fn optimise_wasm(ctx: &Ctx, wasm: &Path) -> Result<(), Failure> {
+    ctx.tool(WASM_OPT, &["-O3"])
+        .arg(wasm)
+        .arg("-o")
+        .arg(wasm)
+        .run()
+}
+
 fn copy_into(from: &Path, to: &Path) -> Result<(), Failure> {
     if let Some(parent) = to.parent() {
         fs::create_dir_all(parent)
@@ -598,6 +615,7 @@ fn copy_into(from: &Path, to: &Path) -> Result<(), Failure> {
 fn build_site(ctx: &Ctx) -> Result<PathBuf, Failure> {
     ensure_rust_toolchain(ctx)?;
     ensure_wasm_bindgen(ctx)?;
+    ensure_node_packages(ctx)?;
     ctx.cargo(&[
         "build",
         "--lib",
@@ -633,6 +651,7 @@ fn build_site(ctx: &Ctx) -> Result<PathBuf, Failure> {
     .arg(site.join(PKG_DIR))
     .arg(&wasm)
     .run()?;
+    optimise_wasm(ctx, &site.join(PKG_DIR).join("noisesonde_bg.wasm"))?;
     for file in PAGE_FILES {
         copy_into(&ctx.root.join("www").join(file), &site.join(file))?;
     }
@@ -768,6 +787,7 @@ fn dist_single(ctx: &Ctx) -> Result<PathBuf, Failure> {
     .arg(&glue_dir)
     .arg(&wasm)
     .run()?;
+    optimise_wasm(ctx, &glue_dir.join("noisesonde_bg.wasm"))?;
     let glue = read_text(&glue_dir.join("noisesonde.js"))?;
     let wasm_bytes = fs::read(glue_dir.join("noisesonde_bg.wasm"))
         .map_err(|err| Failure(format!("cannot read the wasm: {err}")))?;
@@ -948,13 +968,16 @@ fn ensure_chromium(ctx: &Ctx) -> Result<(), Failure> {
         .run()
 }
 
-/// `npm ci` in tests/browser when playwright-core is not installed there yet.
+/// `npm ci` in tests/browser when playwright-core or binaryen is not installed there yet.
 fn ensure_node_packages(ctx: &Ctx) -> Result<(), Failure> {
     let dir = ctx.root.join(BROWSER_TEST_DIR);
-    if dir
-        .join("node_modules/playwright-core/package.json")
-        .is_file()
-    {
+    let installed = ["playwright-core", "binaryen"].iter().all(|package| {
+        dir.join("node_modules")
+            .join(package)
+            .join("package.json")
+            .is_file()
+    });
+    if installed {
         return Ok(());
     }
     ctx.tool(
@@ -996,6 +1019,10 @@ const BENCH_STEPS: &[Step] = &[
         ensure_python_deps,
     ),
     ("benchmark (release example vs numpy/scipy)", bench),
+    (
+        "page benchmark (wasm in headless Chromium vs the native CLI)",
+        bench_page,
+    ),
 ];
 
 fn bench(ctx: &Ctx) -> StepResult {
@@ -1010,6 +1037,37 @@ fn bench(ctx: &Ctx) -> StepResult {
         .arg("--launcher")
         .arg(&launcher)
         .run()?;
+    Ok(Outcome::Passed)
+}
+
+/// Where `xtask/bench_page.mjs` writes its Markdown table.
+const BENCH_PAGE_RESULTS: &str = "target/bench-page.md";
+
+/// The page's half of the benchmark: builds the release CLI and the page, serves a copy of the
+/// page on 127.0.0.1 (so a concurrent `cargo xtask test` rebuilding target/site cannot pull it
+/// away mid-run) and runs `xtask/bench_page.mjs` in headless Chromium against both.
+fn bench_page(ctx: &Ctx) -> StepResult {
+    ensure_chromium(ctx)?;
+    ensure_node_packages(ctx)?;
+    let cli = build_release_cli(ctx)?;
+    let site = build_site(ctx)?;
+    let served = ctx.root.join("target/bench-data/site");
+    if served.exists() {
+        fs::remove_dir_all(&served)
+            .map_err(|err| Failure(format!("cannot clear {}: {err}", served.display())))?;
+    }
+    copy_tree(&site, &served)?;
+    let out = ctx.root.join(BENCH_PAGE_RESULTS);
+    let server = Server::start(ctx, &served, free_port(8750)?)?;
+    ctx.tool("node", &["xtask/bench_page.mjs"])
+        .env("SITE_URL", &server.url)
+        .env("SITE_DIR", &served)
+        .env("CHROMIUM", CHROMIUM)
+        .env("NOISESONDE_BIN", &cli)
+        .env("OUT", &out)
+        .run()?;
+    drop(server);
+    println!("--- page benchmark table: {}", out.display());
     Ok(Outcome::Passed)
 }
 
