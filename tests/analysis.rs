@@ -2,56 +2,14 @@
 
 mod common;
 
+use common::VecSource;
+
 use common::noise::Noise;
 use noisesonde::analysis::{analyze, Analyzer, Settings};
-use noisesonde::io::{ReadError, SampleSource, SourceInfo};
 use noisesonde::spectral::{Detrend, WelchSettings};
 use noisesonde::units::Calibration;
 use noisesonde::window::WindowKind;
 use noisesonde::{AnalysisError, Error, SettingsError};
-
-/// An in-memory source of full-scale samples.
-struct VecSource {
-    info: SourceInfo,
-    samples: Vec<f64>,
-    pos: usize,
-}
-
-impl VecSource {
-    fn new(samples: Vec<f64>, sample_rate_hz: f64) -> Self {
-        Self {
-            info: SourceInfo {
-                name: "test".into(),
-                format: "memory".into(),
-                channels: 1,
-                channel: 0,
-                channel_name: None,
-                sample_rate_hz,
-                bits_per_sample: None,
-                full_scale: true,
-                clip_level_fs: Some(1.0),
-                declared_frames: None,
-            },
-            samples,
-            pos: 0,
-        }
-    }
-}
-
-impl SampleSource for VecSource {
-    fn info(&self) -> &SourceInfo {
-        &self.info
-    }
-    fn read(&mut self, out: &mut [f64]) -> Result<usize, ReadError> {
-        let n = out.len().min(self.samples.len() - self.pos).min(1000);
-        out[..n].copy_from_slice(&self.samples[self.pos..self.pos + n]);
-        self.pos += n;
-        Ok(n)
-    }
-    fn warnings(&self) -> &[String] {
-        &[]
-    }
-}
 
 fn tone(len: usize, fs: f64, f: f64, amplitude: f64, dc: f64) -> Vec<f64> {
     (0..len)

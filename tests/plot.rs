@@ -2,12 +2,15 @@
 //! can check the very chart the page shows: where the curve lies, what the labels say, what the
 //! markers mark. One test also draws real SVG.
 
+mod common;
+
+use common::VecSource;
+
 use std::cell::RefCell;
 use std::convert::Infallible;
 use std::rc::Rc;
 
 use noisesonde::analysis::{analyze, Settings};
-use noisesonde::io::{ReadError, SampleSource, SourceInfo};
 use noisesonde::plot::{
     colours, decimate_min_max, decimate_min_max_indices, draw_acf, draw_psd, AcfMode,
     AcfPlotOptions, PlotError, PlotFrame, PsdMode, PsdPlotOptions,
@@ -197,49 +200,6 @@ impl DrawingBackend for Recorder {
 
 // ---------------------------------------------------------------------------------------------
 // Reports to draw.
-
-/// An in-memory source of full-scale samples.
-struct VecSource {
-    info: SourceInfo,
-    samples: Vec<f64>,
-    pos: usize,
-}
-
-impl VecSource {
-    fn new(samples: Vec<f64>, sample_rate_hz: f64) -> Self {
-        Self {
-            info: SourceInfo {
-                name: "memory".into(),
-                format: "test samples".into(),
-                channels: 1,
-                channel: 0,
-                channel_name: None,
-                sample_rate_hz,
-                bits_per_sample: None,
-                full_scale: true,
-                clip_level_fs: Some(1.0),
-                declared_frames: None,
-            },
-            samples,
-            pos: 0,
-        }
-    }
-}
-
-impl SampleSource for VecSource {
-    fn info(&self) -> &SourceInfo {
-        &self.info
-    }
-    fn read(&mut self, out: &mut [f64]) -> Result<usize, ReadError> {
-        let n = out.len().min(self.samples.len() - self.pos);
-        out[..n].copy_from_slice(&self.samples[self.pos..self.pos + n]);
-        self.pos += n;
-        Ok(n)
-    }
-    fn warnings(&self) -> &[String] {
-        &[]
-    }
-}
 
 /// Uniform noise on (−0.5, 0.5) from xorshift64* (Vigna 2016), deterministic.
 fn noise(len: usize, seed: u64) -> Vec<f64> {

@@ -5,6 +5,7 @@ pub mod noise;
 
 use std::path::PathBuf;
 
+use noisesonde::io::{ReadError, SampleSource, SourceInfo};
 use serde_json::Value;
 
 /// Relative agreement required with scipy.signal.welch (the 1e-9).
@@ -53,5 +54,49 @@ pub fn assert_close(what: &str, actual: &[f64], expected: &[f64], rel: f64, abs_
             "{what}[{i}]: got {a:e}, reference {b:e} (difference {:e} > tolerance {tol:e})",
             (a - b).abs()
         );
+    }
+}
+
+/// An in-memory source of full-scale samples, read at most 1000 at a time (so the pipeline's
+/// block handling is exercised).
+pub struct VecSource {
+    pub info: SourceInfo,
+    samples: Vec<f64>,
+    pos: usize,
+}
+
+impl VecSource {
+    pub fn new(samples: Vec<f64>, sample_rate_hz: f64) -> Self {
+        Self {
+            info: SourceInfo {
+                name: "test".into(),
+                format: "memory".into(),
+                channels: 1,
+                channel: 0,
+                channel_name: None,
+                sample_rate_hz,
+                bits_per_sample: None,
+                full_scale: true,
+                clip_level_fs: Some(1.0),
+                declared_frames: None,
+            },
+            samples,
+            pos: 0,
+        }
+    }
+}
+
+impl SampleSource for VecSource {
+    fn info(&self) -> &SourceInfo {
+        &self.info
+    }
+    fn read(&mut self, out: &mut [f64]) -> Result<usize, ReadError> {
+        let n = out.len().min(self.samples.len() - self.pos).min(1000);
+        out[..n].copy_from_slice(&self.samples[self.pos..self.pos + n]);
+        self.pos += n;
+        Ok(n)
+    }
+    fn warnings(&self) -> &[String] {
+        &[]
     }
 }

@@ -582,6 +582,31 @@ fn ensure_wasm_bindgen(ctx: &Ctx) -> Result<(), Failure> {
         .run()
 }
 
+/// Runs wasm-bindgen for `target` (`web` or `no-modules`) on the release wasm, writing the glue
+/// and `noisesonde_bg.wasm` into `out_dir`, then optimises the wasm.
+fn bind_wasm(ctx: &Ctx, target: &str, out_dir: &Path) -> Result<(), Failure> {
+    let wasm = ctx
+        .root
+        .join("target")
+        .join(WASM_TARGET)
+        .join("release/noisesonde.wasm");
+    // The name section is a fifth of the module; panic messages stay readable without it.
+    ctx.tool(
+        "wasm-bindgen",
+        &[
+            "--target",
+            target,
+            "--no-typescript",
+            "--remove-name-section",
+            "--out-dir",
+        ],
+    )
+    .arg(out_dir)
+    .arg(&wasm)
+    .run()?;
+    optimise_wasm(ctx, &out_dir.join("noisesonde_bg.wasm"))
+}
+
 /// binaryen's wasm-opt from the npm package in tests/browser (Debian's binaryen is too old to
 /// read current rustc output; see the shared toolchain notes).
 const WASM_OPT: &str = "tests/browser/node_modules/.bin/wasm-opt";
@@ -632,26 +657,7 @@ fn build_site(ctx: &Ctx) -> Result<PathBuf, Failure> {
         fs::remove_dir_all(&site)
             .map_err(|err| Failure(format!("cannot clear {}: {err}", site.display())))?;
     }
-    let wasm = ctx
-        .root
-        .join("target")
-        .join(WASM_TARGET)
-        .join("release/noisesonde.wasm");
-    ctx.tool(
-        "wasm-bindgen",
-        // The name section is a fifth of the module; panic messages stay readable without it.
-        &[
-            "--target",
-            "web",
-            "--no-typescript",
-            "--remove-name-section",
-            "--out-dir",
-        ],
-    )
-    .arg(site.join(PKG_DIR))
-    .arg(&wasm)
-    .run()?;
-    optimise_wasm(ctx, &site.join(PKG_DIR).join("noisesonde_bg.wasm"))?;
+    bind_wasm(ctx, "web", &site.join(PKG_DIR))?;
     for file in PAGE_FILES {
         copy_into(&ctx.root.join("www").join(file), &site.join(file))?;
     }
@@ -769,25 +775,7 @@ fn read_text(path: &Path) -> Result<String, Failure> {
 /// receives the compiled module from the page.
 fn dist_single(ctx: &Ctx) -> Result<PathBuf, Failure> {
     let glue_dir = ctx.root.join("target/single-file-pkg");
-    let wasm = ctx
-        .root
-        .join("target")
-        .join(WASM_TARGET)
-        .join("release/noisesonde.wasm");
-    ctx.tool(
-        "wasm-bindgen",
-        &[
-            "--target",
-            "no-modules",
-            "--no-typescript",
-            "--remove-name-section",
-            "--out-dir",
-        ],
-    )
-    .arg(&glue_dir)
-    .arg(&wasm)
-    .run()?;
-    optimise_wasm(ctx, &glue_dir.join("noisesonde_bg.wasm"))?;
+    bind_wasm(ctx, "no-modules", &glue_dir)?;
     let glue = read_text(&glue_dir.join("noisesonde.js"))?;
     let wasm_bytes = fs::read(glue_dir.join("noisesonde_bg.wasm"))
         .map_err(|err| Failure(format!("cannot read the wasm: {err}")))?;
