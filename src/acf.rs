@@ -206,6 +206,11 @@ impl Acf {
         }
     }
 
+    /// The plan in use.
+    pub fn plan(&self) -> &AcfPlan {
+        &self.plan
+    }
+
     /// Samples pushed so far.
     pub fn samples(&self) -> u64 {
         self.samples

@@ -256,7 +256,7 @@ impl Analyzer {
                     .to_string(),
             );
         }
-        let requested_lag = self.acf_max_lag_len();
+        let requested_lag = self.acf.plan().max_lag_len();
         if acf.lag_len.len() < requested_lag + 1 {
             warnings.push(format!(
                 "maximum lag reduced from {requested_lag} to {} samples: the record is that short",
@@ -329,13 +329,6 @@ impl Analyzer {
             },
             warnings,
         })
-    }
-
-    fn acf_max_lag_len(&self) -> usize {
-        match self.settings.max_lag_s {
-            None => self.settings.welch.segment_len,
-            Some(s) => (s * self.source.sample_rate_hz).round() as usize,
-        }
     }
 }
 
