@@ -159,3 +159,74 @@ pub struct WienerKhinchin {
     /// `autocovariance` (detrended segments) or `autocorrelation` (no detrend).
     pub compared_with: String,
 }
+
+/// A report's long arrays, taken out so that a front end can move them as typed arrays (a Web
+/// Worker transfers them to the page instead of copying them through JSON text).
+///
+/// [`Report::take_arrays`] leaves the rest of the report (a few hundred bytes of JSON whatever
+/// the record's length) and [`Report::restore_arrays`] puts them back; the round trip is exact.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct ReportArrays {
+    /// Each array with its dotted path in the report's JSON, e.g. `psd.density`.
+    pub arrays: Vec<(&'static str, Vec<f64>)>,
+}
+
+impl ReportArrays {
+    /// The array at `path`, if it was taken.
+    pub fn get(&self, path: &str) -> Option<&[f64]> {
+        self.arrays
+            .iter()
+            .find(|(p, _)| *p == path)
+            .map(|(_, v)| v.as_slice())
+    }
+}
+
+impl Report {
+    /// Dotted JSON paths of the arrays that [`Report::take_arrays`] moves out, in its order.
+    pub const ARRAY_PATHS: [&'static str; 9] = [
+        "psd.frequency_hz",
+        "psd.density",
+        "psd.power_spectrum",
+        "psd.ci_lower",
+        "psd.ci_upper",
+        "acf.lag_s",
+        "acf.autocorrelation",
+        "acf.autocovariance",
+        "acf.coefficient",
+    ];
+
+    fn array_slots(&mut self) -> [&mut Vec<f64>; 9] {
+        let (psd, acf) = (&mut self.psd, &mut self.acf);
+        [
+            &mut psd.frequency_hz,
+            &mut psd.density,
+            &mut psd.power_spectrum,
+            &mut psd.ci_lower,
+            &mut psd.ci_upper,
+            &mut acf.lag_s,
+            &mut acf.autocorrelation,
+            &mut acf.autocovariance,
+            &mut acf.coefficient,
+        ]
+    }
+
+    /// Moves the long arrays out (they become empty here), named by [`Report::ARRAY_PATHS`].
+    pub fn take_arrays(&mut self) -> ReportArrays {
+        let arrays = Self::ARRAY_PATHS
+            .into_iter()
+            .zip(self.array_slots())
+            .map(|(path, slot)| (path, std::mem::take(slot)))
+            .collect();
+        ReportArrays { arrays }
+    }
+
+    /// Puts back arrays taken by [`Report::take_arrays`] (or rebuilt from their paths); a path
+    /// that is missing leaves its array as it is.
+    pub fn restore_arrays(&mut self, arrays: ReportArrays) {
+        for (path, values) in arrays.arrays {
+            if let Some(index) = Self::ARRAY_PATHS.iter().position(|p| *p == path) {
+                *self.array_slots()[index] = values;
+            }
+        }
+    }
+}

@@ -361,3 +361,33 @@ fn report_survives_a_json_round_trip() {
     assert_eq!(settings.welch.segment_len, 1024);
     assert_eq!(settings.welch.window, noisesonde::window::WindowKind::Hann);
 }
+
+/// The worker sends the report as a small JSON summary plus its arrays as transferred typed
+/// arrays: taking the arrays out and putting them back must give the report unchanged, every
+/// path must name a real array of the JSON, and the summary must hold no array longer than 0.
+#[test]
+fn report_arrays_split_and_rejoin_exactly() {
+    let r = run(Noise::new(11).normals(20_000), 100.0, &Settings::default()).unwrap();
+    let full = serde_json::to_value(&r).unwrap();
+    let mut summary = r.clone();
+    let arrays = summary.take_arrays();
+    assert_eq!(arrays.arrays.len(), noisesonde::Report::ARRAY_PATHS.len());
+    for (path, values) in &arrays.arrays {
+        let pointer = format!("/{}", path.replace('.', "/"));
+        let in_json: Vec<f64> = serde_json::from_value(full.pointer(&pointer).unwrap().clone())
+            .unwrap_or_else(|e| panic!("{path}: {e}"));
+        assert!(!values.is_empty(), "{path} is empty");
+        assert_eq!(&in_json, values, "{path} differs from the JSON");
+    }
+    let summary_json = serde_json::to_value(&summary).unwrap();
+    for path in noisesonde::Report::ARRAY_PATHS {
+        let pointer = format!("/{}", path.replace('.', "/"));
+        assert_eq!(
+            summary_json.pointer(&pointer).unwrap(),
+            &serde_json::json!([])
+        );
+    }
+    assert!(serde_json::to_string(&summary).unwrap().len() < 4096);
+    summary.restore_arrays(arrays);
+    assert!(summary == r, "the report changed in a split and rejoin");
+}

@@ -202,6 +202,31 @@ fn zip_archive() {
             "--raw FORMAT --sample-rate HZ",
         ],
     );
+    assert!(
+        !err.could_be_raw(),
+        "a ZIP archive is not headerless samples"
+    );
+}
+
+/// Bytes that match no file type (here the first bytes of an i16 sine) could be raw samples:
+/// the page then asks for the layout. A damaged WAV marker or a known other format could not.
+#[test]
+fn headerless_bytes_could_be_raw_but_known_formats_could_not() {
+    let samples: Vec<u8> = (0..64i16)
+        .flat_map(|n| (n * 300 - 9000).to_le_bytes())
+        .collect();
+    let err = open_err(samples, &InputOptions::default());
+    assert!(matches!(err, ReadError::UnknownFormat { .. }));
+    assert!(err.could_be_raw());
+    let mut damaged = fixture(S16);
+    damaged[..4].copy_from_slice(b"RIFQ");
+    let err = open_err(damaged, &InputOptions::default());
+    assert!(matches!(err, ReadError::UnknownFormat { .. }), "{err}");
+    assert!(!err.could_be_raw());
+    for magic in [&b"%PDF-1.7 xxxxx"[..], b"OggS\0\x02xxxxxxxx"] {
+        let err = open_err(magic.to_vec(), &InputOptions::default());
+        assert!(!err.could_be_raw(), "{err}");
+    }
 }
 
 #[test]

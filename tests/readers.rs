@@ -399,6 +399,11 @@ fn csv_fixture_time_column_gives_sample_rate() {
     assert_eq!(info.format, "CSV text (comma-separated)");
     assert_eq!(info.channel_name.as_deref(), Some("amps"));
     assert_eq!(
+        info.channel_names,
+        ["volts", "amps"],
+        "the data columns, time left out"
+    );
+    assert_eq!(
         info.channels, 2,
         "volts and amps; time is not a data column"
     );
@@ -425,6 +430,7 @@ fn csv_header_selects_column_by_channel_name_and_index() {
     .unwrap();
     assert_eq!(values, vec![2.0, 5.0]);
     assert_eq!(source.info().channel_name.as_deref(), Some("amps"));
+    assert_eq!(source.info().channel_names, ["volts", "amps", "ohms"]);
     assert_eq!(source.info().channels, 3);
     assert_eq!(source.info().sample_rate_hz, 10.0);
 
@@ -447,6 +453,7 @@ fn csv_without_header() {
     let (source, values) = csv("1.5,-2\n3e-3,4\n-0.25,6\n", &with_rate(2.0)).unwrap();
     assert_eq!(values, vec![1.5, 3e-3, -0.25]);
     assert_eq!(source.info().channel_name, None);
+    assert!(source.info().channel_names.is_empty());
     assert_eq!(source.info().channels, 2);
 }
 

@@ -27,8 +27,10 @@ const $ = {
   rawFormat: /** @type {HTMLSelectElement} */ (el('raw-format')),
   rawChannels: /** @type {HTMLInputElement} */ (el('raw-channels')),
   sampleRate: /** @type {HTMLInputElement} */ (el('sample-rate')),
-  channel: /** @type {HTMLInputElement} */ (el('channel')),
-  column: /** @type {HTMLInputElement} */ (el('column')),
+  channel: /** @type {HTMLSelectElement} */ (el('channel')),
+  channelLabel: el('channel-label'),
+  layoutForm: /** @type {HTMLDetailsElement} */ (el('layout-form')),
+  layoutApply: el('layout-apply'),
   form: /** @type {HTMLFormElement} */ (el('settings-form')),
   window: /** @type {HTMLSelectElement} */ (el('window')),
   kaiserLabel: el('kaiser-beta-label'),
@@ -63,7 +65,6 @@ const $ = {
 const state = {
   /** @type {File | null} */ file: null,
   /** @type {any} */ report: null,
-  /** @type {string} */ reportJson: '',
   /** @type {ReportView | null} */ view: null,
   /** @type {(number | null)[]} */ cursors: [null, null],
   activeCursor: 0,
@@ -101,11 +102,42 @@ function onWorkerMessage(event) {
     showProgress(msg.bytes, msg.total);
   } else if (msg.type === MSG.RESULT) {
     finishRun();
-    showReport(msg.reportJson);
+    showReport(msg.summary, msg.arrays);
   } else if (msg.type === MSG.ERROR) {
     finishRun();
     showError(msg.message);
+    if (msg.kind === 'layout' || msg.kind === 'sample_rate') askForLayout(msg.kind);
   }
+}
+
+/**
+ * The file cannot be read without its layout: open the form at the field that is missing. The
+ * file is kept; "Analyse with this layout" reads it again.
+ * @param {'layout' | 'sample_rate'} kind
+ */
+function askForLayout(kind) {
+  $.layoutForm.open = true;
+  $.layoutForm.classList.add('needed');
+  $.errorBox.append(' Fill in the input layout below, then choose “Analyse with this layout”.');
+  (kind === 'layout' ? $.rawFormat : $.sampleRate).focus();
+}
+
+/**
+ * The channel list: from the report (names where the file has them) after a run, or from the
+ * layout form's channel count for a raw file before one.
+ * @param {number} count @param {number} chosen @param {string[]} [names]
+ */
+function listChannels(count, chosen, names = []) {
+  const options = [];
+  for (let c = 0; c < Math.min(count, 4096); c += 1) {
+    const option = document.createElement('option');
+    option.value = String(c);
+    option.textContent = names[c] ? `${c}: ${names[c]}` : String(c);
+    options.push(option);
+  }
+  $.channel.replaceChildren(...options);
+  $.channel.value = String(Math.min(chosen, Math.max(0, count - 1)));
+  $.channelLabel.hidden = count <= 1;
 }
 
 /** @param {File} file */
@@ -154,8 +186,6 @@ function readInput() {
   }
   if ($.sampleRate.value !== '') input.sample_rate_hz = Number($.sampleRate.value);
   if ($.channel.value !== '' && Number($.channel.value) > 0) input.channel = Number($.channel.value);
-  const column = $.column.value.trim();
-  if (column) input.column = /^\d+$/.test(column) ? Number(column) : column;
   return input;
 }
 
@@ -251,21 +281,30 @@ function quantity(path, value, unit = '') {
   return span;
 }
 
-/** @param {string} json */
-function showReport(json) {
+/**
+ * Shows a report that arrived as a JSON summary plus its long arrays (transferred typed arrays).
+ * @param {string} summary @param {Record<string, Float64Array>} arrays
+ */
+function showReport(summary, arrays) {
   let view;
   try {
-    view = ReportView.from_json(json);
+    view = ReportView.from_parts(summary, arrays);
   } catch (err) {
     showError(`could not read the report: ${err instanceof Error ? err.message : err}`);
     return;
   }
   state.view?.free();
   state.view = view;
-  state.reportJson = json;
-  state.report = JSON.parse(json);
-  const r = state.report;
-  $.sourceLine.textContent = `${r.source.name}: ${r.source.format}, channel ${r.channel} of ${r.source.channels}`;
+  // The page reads scalars from the summary and the few array entries it shows from the arrays.
+  const r = JSON.parse(summary);
+  for (const [path, values] of Object.entries(arrays)) {
+    const [section, field] = path.split('.');
+    r[section][field] = values;
+  }
+  state.report = r;
+  $.sourceLine.textContent = `${r.source.name}: ${r.source.format}, channel ${r.channel}${r.source.channel_name ? ` (${r.source.channel_name})` : ''} of ${r.source.channels}`;
+  listChannels(r.source.channels, r.channel, r.source.channel_names);
+  $.layoutForm.classList.remove('needed');
   renderRunLine(r);
   renderWarnings(r.warnings);
   renderQuantities(r);
@@ -461,7 +500,7 @@ function exportPng(canvas, suffix) {
 
 function wireExports() {
   el('export-json').addEventListener('click', () => {
-    if (state.reportJson) download(new Blob([state.reportJson], { type: 'application/json' }), `${baseName()}-report.json`);
+    if (state.view) download(new Blob([state.view.report_json()], { type: 'application/json' }), `${baseName()}-report.json`);
   });
   el('export-psd-csv').addEventListener('click', () => {
     if (state.view) download(new Blob([state.view.psd_csv()], { type: 'text/csv' }), `${baseName()}-psd.csv`);
@@ -510,8 +549,18 @@ async function main() {
       $.unit.value = '';
       state.demoCalibration = false;
     }
+    // A new file starts on its first channel (a raw layout keeps its channel count).
+    listChannels($.rawFormat.value ? Number($.rawChannels.value) || 1 : 1, 0);
     analyze(file);
   };
+  $.channel.addEventListener('change', () => { if (state.file) analyze(state.file); });
+  $.layoutApply.addEventListener('click', () => { if (state.file) analyze(state.file); });
+  for (const input of [$.rawFormat, $.rawChannels]) {
+    input.addEventListener('change', () => {
+      const count = $.rawFormat.value ? Number($.rawChannels.value) || 1 : 1;
+      listChannels(count, Number($.channel.value) || 0);
+    });
+  }
   for (const input of [$.scale, $.unit]) {
     input.addEventListener('input', () => { state.demoCalibration = false; });
   }

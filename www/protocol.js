@@ -7,8 +7,10 @@
  *                { type: 'analyze', id, file, input, settings }
  * worker → page: { type: 'ready' }
  *                { type: 'progress', id, bytes, total }
- *                { type: 'result', id, reportJson }
- *                { type: 'error', id, message }
+ *                { type: 'result', id, summary, arrays }   (summary: the report's JSON without
+ *                  its long arrays; arrays: { 'psd.density': Float64Array, … }, transferred)
+ *                { type: 'error', id, message, kind }   (kind: 'layout' | 'sample_rate' |
+ *                  'channel' when the page can ask the user; otherwise undefined)
  * Cancelling terminates the worker; the page starts a fresh one. Replies whose id is not the
  * newest request are dropped.
  */

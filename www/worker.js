@@ -22,16 +22,21 @@ self.onmessage = async (event) => {
   try {
     if (!ready) throw new Error('the analysis engine was not started');
     await ready;
-    const reportJson = analyze_file(
+    const { summary, arrays } = analyze_file(
       msg.file,
       JSON.stringify(msg.input),
       JSON.stringify(msg.settings),
       (/** @type {number} */ bytes, /** @type {number} */ total) =>
         self.postMessage({ type: MSG.PROGRESS, id: msg.id, bytes, total }),
     );
-    self.postMessage({ type: MSG.RESULT, id: msg.id, reportJson });
+    // The arrays live in the JavaScript heap (not wasm memory): transfer them, do not copy.
+    const buffers = Object.values(arrays).map((/** @type {Float64Array} */ a) => a.buffer);
+    self.postMessage({ type: MSG.RESULT, id: msg.id, summary, arrays }, buffers);
   } catch (err) {
     const message = err instanceof Error ? err.message : String(err);
-    self.postMessage({ type: MSG.ERROR, id: msg.id, message });
+    // `kind` (set by the Rust side) tells the page which question to ask: 'layout',
+    // 'sample_rate' or 'channel'.
+    const kind = err instanceof Error && 'kind' in err ? String(err.kind) : undefined;
+    self.postMessage({ type: MSG.ERROR, id: msg.id, message, kind });
   }
 };

@@ -473,6 +473,11 @@ impl CsvSource {
                 channels: data_columns.len(),
                 channel,
                 channel_name: headers.as_ref().and_then(|h| h.get(data_column).cloned()),
+                channel_names: if headers.is_some() {
+                    data_columns.iter().map(|&c| columns.label(c)).collect()
+                } else {
+                    Vec::new()
+                },
                 sample_rate_hz: 0.0,
                 bits_per_sample: None,
                 full_scale: false,

@@ -53,6 +53,10 @@ pub struct SourceInfo {
     pub channel: usize,
     /// Name of the channel or column where the input has one (a CSV header).
     pub channel_name: Option<String>,
+    /// Names of all channels in order, where the input names them (a CSV header's data
+    /// columns); empty otherwise. Lets a front end offer the channels by name.
+    #[serde(default)]
+    pub channel_names: Vec<String>,
     /// Sample rate in hertz; finite and > 0 once a reader has been built.
     pub sample_rate_hz: f64,
     /// Bits per sample of the encoding, where it has one.
@@ -390,6 +394,23 @@ fn describe_magic(bytes: &[u8]) -> String {
             .unwrap_or_default()
     };
     format!("{} (\"{ascii}\"){guess}", hex.join(" "))
+}
+
+impl ReadError {
+    /// Whether this is an input without a recognisable header that could be headerless samples
+    /// (an [`ReadError::UnknownFormat`] whose first bytes match no known file type): a front
+    /// end may then ask for the raw layout instead of only showing the message.
+    pub fn could_be_raw(&self) -> bool {
+        match self {
+            ReadError::UnknownFormat { first_bytes, .. } => {
+                first_bytes.get(8..12) != Some(b"WAVE")
+                    && !KNOWN_MAGIC
+                        .iter()
+                        .any(|(magic, _)| first_bytes.starts_with(magic))
+            }
+            _ => false,
+        }
+    }
 }
 
 /// Signatures of common non-audio or unsupported files, to name them in [`ReadError::UnknownFormat`].

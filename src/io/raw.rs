@@ -241,6 +241,7 @@ impl RawSource {
                 channels: options.channels,
                 channel: options.channel,
                 channel_name: None,
+                channel_names: Vec::new(),
                 sample_rate_hz,
                 bits_per_sample: Some(bits),
                 full_scale: true,

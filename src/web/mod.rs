@@ -3,8 +3,8 @@
 //!
 //! | export | where | what |
 //! | --- | --- | --- |
-//! | `analyze_file(file, input_json, settings_json, on_progress)` | Web Worker | the report of a `File` as JSON, written by the same serializer as the command line's `--json` |
-//! | `ReportView` | main thread | a report read back from JSON: draws the PSD and ACF on canvases, reads values under the mouse, integrates bands |
+//! | `analyze_file(file, input_json, settings_json, on_progress)` | Web Worker | the report of a `File`: `{summary, arrays}`, the report's JSON (the command line's serializer) without its long arrays, and those arrays as `Float64Array`s the worker transfers to the page |
+//! | `ReportView` | main thread | a report rebuilt from that summary and those arrays (or read from whole JSON): draws the PSD and ACF on canvases, reads values under the mouse, integrates bands, writes the JSON and CSV exports |
 //!
 //! Enums cross as strings parsed with `FromStr`; errors become `Error` objects whose message is
 //! the library's own (for example `cut.wav: header is truncated: …`).
@@ -18,7 +18,7 @@ use serde::Deserialize;
 use wasm_bindgen::prelude::*;
 
 use crate::analysis::{analyze, Settings};
-use crate::io::{ColumnSelector, InputOptions, RawFormat};
+use crate::io::{ColumnSelector, InputOptions, RawFormat, ReadError};
 
 pub use self::file_reader::{FileSliceReader, SLICE_BYTES};
 pub use self::view::ReportView;
@@ -30,8 +30,11 @@ pub fn start() {
     console_error_panic_hook::set_once();
 }
 
-/// Analyses a `File` and returns the report as JSON text (`serde_json::to_string` of
-/// [`Report`](crate::report::Report), the serializer of the command line's `--json`). The
+/// Analyses a `File` and returns the report as `{summary, arrays}`: `summary` is the JSON text
+/// of the [`Report`](crate::report::Report) (`serde_json::to_string`, the serializer of the
+/// command line's `--json`) with its long arrays emptied, and `arrays` maps each dotted path of
+/// [`Report::ARRAY_PATHS`](crate::report::Report::ARRAY_PATHS) to a `Float64Array` in the
+/// JavaScript heap (not a view of wasm memory), so the worker can transfer it to the page. The
 /// arithmetic is wasm's, not a native build's: on the demo files PSD values agreed with the
 /// native command line to a few ulp and ACF values to 1.4e-12 relative; moments were identical.
 ///
@@ -52,17 +55,51 @@ pub fn analyze_file(
     input_json: &str,
     settings_json: &str,
     on_progress: &js_sys::Function,
-) -> Result<String, JsError> {
+) -> Result<js_sys::Object, JsValue> {
     let options = parse_input(input_json).map_err(|e| JsError::new(&e))?;
     let settings = parse_settings(settings_json).map_err(|e| JsError::new(&e))?;
     let name = file.name();
     let reader = FileSliceReader::new(file.into(), Some(on_progress.clone()))
         .map_err(|e| JsError::new(&format!("{name}: {e}")))?;
-    let mut source =
-        crate::io::open(reader, &name, &options).map_err(|e| JsError::new(&e.to_string()))?;
-    let report = analyze(&mut *source, &settings).map_err(|e| JsError::new(&e.to_string()))?;
-    serde_json::to_string(&report)
-        .map_err(|e| JsError::new(&format!("{name}: the report could not be written: {e}")))
+    let mut source = crate::io::open(reader, &name, &options).map_err(read_error)?;
+    let mut report = analyze(&mut *source, &settings).map_err(|e| JsError::new(&e.to_string()))?;
+    let arrays = report.take_arrays();
+    let summary = serde_json::to_string(&report)
+        .map_err(|e| JsError::new(&format!("{name}: the report could not be written: {e}")))?;
+    let typed = js_sys::Object::new();
+    for (path, values) in &arrays.arrays {
+        set(&typed, path, &js_sys::Float64Array::from(values.as_slice()))?;
+    }
+    let out = js_sys::Object::new();
+    set(&out, "summary", &JsValue::from_str(&summary))?;
+    set(&out, "arrays", &typed)?;
+    Ok(out)
+}
+
+/// A reader's error as a JavaScript `Error` with its message and, where the page can help by
+/// asking the user, a `kind`: `"layout"` (no header, and not a known other file type: raw
+/// layout needed), `"sample_rate"` (text
+/// without a time column) or `"channel"` (no such channel).
+fn read_error(error: ReadError) -> JsValue {
+    let kind = match error {
+        ReadError::UnknownFormat { .. } if error.could_be_raw() => Some("layout"),
+        ReadError::MissingSampleRate { .. } => Some("sample_rate"),
+        ReadError::ChannelOutOfRange { .. } => Some("channel"),
+        _ => None,
+    };
+    let value: JsValue = JsError::new(&error.to_string()).into();
+    if let Some(kind) = kind {
+        // A failure here only loses the hint; the message is still there.
+        let _ = js_sys::Reflect::set(&value, &JsValue::from_str("kind"), &JsValue::from_str(kind));
+    }
+    value
+}
+
+/// `target[key] = value`, as a readable error if the engine refuses.
+fn set(target: &js_sys::Object, key: &str, value: &JsValue) -> Result<(), JsError> {
+    js_sys::Reflect::set(target, &JsValue::from_str(key), value)
+        .map(drop)
+        .map_err(|_| JsError::new(&format!("could not build the result object ({key})")))
 }
 
 /// The page's input options: [`InputOptions`] with enums as strings.

@@ -3,6 +3,7 @@
 use plotters::prelude::IntoDrawingArea;
 use plotters_canvas::CanvasBackend;
 use wasm_bindgen::prelude::*;
+use wasm_bindgen::JsCast;
 use web_sys::HtmlCanvasElement;
 
 use crate::bands;
@@ -23,18 +24,51 @@ pub struct ReportView {
 
 #[wasm_bindgen]
 impl ReportView {
-    /// Reads a report from the JSON text that `analyze_file` (or the command line) wrote.
+    /// Reads a whole report from JSON text (the command line's `--json`).
     ///
     /// # Errors
     /// When the text is not such a report.
     pub fn from_json(text: &str) -> Result<ReportView, JsError> {
         let report: Report = serde_json::from_str(text)
             .map_err(|e| JsError::new(&format!("the report could not be read: {e}")))?;
-        Ok(ReportView {
+        Ok(Self::of(report))
+    }
+
+    /// Rebuilds a report from what `analyze_file` returns: the summary JSON and the object of
+    /// `Float64Array`s by dotted path (copied once into wasm memory here).
+    ///
+    /// # Errors
+    /// When the summary is not a report or an array is missing or not a `Float64Array`.
+    pub fn from_parts(summary: &str, arrays: &js_sys::Object) -> Result<ReportView, JsError> {
+        let mut report: Report = serde_json::from_str(summary)
+            .map_err(|e| JsError::new(&format!("the report could not be read: {e}")))?;
+        let mut taken = crate::report::ReportArrays::default();
+        for path in Report::ARRAY_PATHS {
+            let value = js_sys::Reflect::get(arrays, &JsValue::from_str(path))
+                .ok()
+                .and_then(|v| v.dyn_into::<js_sys::Float64Array>().ok())
+                .ok_or_else(|| JsError::new(&format!("the report's {path} did not arrive")))?;
+            taken.arrays.push((path, value.to_vec()));
+        }
+        report.restore_arrays(taken);
+        Ok(Self::of(report))
+    }
+
+    fn of(report: Report) -> ReportView {
+        ReportView {
             report,
             psd_frame: None,
             acf_frame: None,
-        })
+        }
+    }
+
+    /// The whole report as JSON, the same text as the command line's `--json` (the export).
+    ///
+    /// # Errors
+    /// Only if serialisation fails.
+    pub fn report_json(&self) -> Result<String, JsError> {
+        serde_json::to_string(&self.report)
+            .map_err(|e| JsError::new(&format!("the report could not be written: {e}")))
     }
 
     /// Draws the PSD on `canvas` at its backing-store size (`canvas.width` × `canvas.height`;

@@ -5,7 +5,7 @@
 import { test, before, after } from 'node:test';
 import assert from 'node:assert/strict';
 import { execFileSync } from 'node:child_process';
-import { mkdtempSync, mkdirSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, dirname } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -82,9 +82,11 @@ function writeWav(path, samples, rate) {
   writeFileSync(path, Buffer.concat([header, data]));
 }
 
-async function waitForReport(page, sourceName) {
-  await page.waitForFunction((name) => document.getElementById('source-line')?.textContent?.startsWith(name)
-    && document.getElementById('progress')?.hidden, sourceName, { timeout: ANALYSIS_TIMEOUT_MS });
+async function waitForReport(page, sourceName, alsoContains = '') {
+  await page.waitForFunction(([name, part]) => {
+    const line = document.getElementById('source-line')?.textContent ?? '';
+    return line.startsWith(name) && line.includes(part) && document.getElementById('progress')?.hidden;
+  }, [sourceName, alsoContains], { timeout: ANALYSIS_TIMEOUT_MS });
 }
 
 test('the demo is analysed on arrival and matches the command line', async () => {
@@ -119,6 +121,20 @@ test('a file chosen in the picker gives the numbers of the command line; a bad f
   assert.equal(expected.unit, 'FS');
   const before = await pageQuantities(page);
   assertMatchesReport(before, expected);
+  // The arrays crossed from the worker as transferred typed arrays: the exported JSON report
+  // holds them whole and equal to the CLI's.
+  const [download] = await Promise.all([page.waitForEvent('download'), page.click('#export-json')]);
+  const exported = JSON.parse(readFileSync(await download.path(), 'utf8'));
+  assert.equal(exported.schema, expected.schema);
+  for (const path of ['psd.frequency_hz', 'psd.density', 'psd.ci_upper', 'acf.lag_s', 'acf.coefficient']) {
+    const [got, want] = [at(exported, path), at(expected, path)];
+    assert.equal(got.length, want.length, path);
+    // PSD bins: relative to each bin. ACF: relative to its lag-0 value, as near-zero lags are
+    // differences of large sums (wasm and native round those differently).
+    const scale = path.startsWith('acf.') && path !== 'acf.lag_s' ? Math.abs(want[0]) : 0;
+    want.forEach((w, i) => assert.ok(Math.abs(got[i] - w) <= REL * Math.max(Math.abs(w), scale),
+      `${path}[${i}]: ${got[i]} vs ${w}`));
+  }
 
   const bad = join(dir, 'archive.wav');
   writeFileSync(bad, Buffer.concat([Buffer.from('PK\x03\x04'), Buffer.alloc(200)]));
@@ -218,7 +234,7 @@ test('the single file works from file:// with no network at all', { skip: !proce
   await page.close();
 });
 
-test('a raw file is read with the layout form, and the settings link reproduces the view', async () => {
+test('a raw file makes the page ask for its layout; its channels are listed; the settings link reproduces the view', async () => {
   const page = await context.newPage();
   await page.goto(SITE_URL);
   await waitForReport(page, 'preamp-shorted-input');
@@ -234,19 +250,33 @@ test('a raw file is read with the layout form, and the settings link reproduces 
     data.writeInt16LE(Math.round((seed / 2147483648 - 0.5) * 3000), 4 * n + 2);
   }
   writeFileSync(raw, data);
-  await page.selectOption('#raw-format', 'i16le');
-  await page.fill('#raw-channels', '2');
-  await page.fill('#sample-rate', String(rate));
-  await page.fill('#channel', '1');
+  assert.equal(await page.locator('#layout-form').getAttribute('open'), null, 'the layout form starts folded');
   await page.selectOption('#window', 'blackman-harris');
   await page.selectOption('#segment', '8192');
   await page.fill('#overlap', '0.75');
   await page.fill('#scale', '1');
   await page.fill('#unit', 'V');
+  const before = await pageQuantities(page);
+  // No header: the page says so, opens the layout form at the format, and keeps the demo's result.
   await page.setInputFiles('#file-input', raw);
-  await waitForReport(page, 'adc-capture.bin');
-  const expected = cliReport(raw, '--raw', 'i16le', '--channels', '2', '--channel', '1', '--sample-rate', String(rate),
-    '--window', 'blackman-harris', '--segment', '8192', '--overlap', '0.75', '--unit', 'V');
+  await page.waitForSelector('#layout-form[open].needed', { timeout: ANALYSIS_TIMEOUT_MS });
+  assert.match(await page.textContent('#error-box'), /adc-capture\.bin/);
+  assert.equal(await page.evaluate(() => document.activeElement?.id), 'raw-format');
+  assert.deepEqual(await pageQuantities(page), before);
+  await page.selectOption('#raw-format', 'i16le');
+  await page.fill('#raw-channels', '2');
+  await page.dispatchEvent('#raw-channels', 'change');
+  await page.fill('#sample-rate', String(rate));
+  await page.click('#layout-apply');
+  await waitForReport(page, 'adc-capture.bin', 'channel 0 of 2');
+  const cliArgs = ['--raw', 'i16le', '--channels', '2', '--sample-rate', String(rate),
+    '--window', 'blackman-harris', '--segment', '8192', '--overlap', '0.75', '--unit', 'V'];
+  assertMatchesReport(await pageQuantities(page), cliReport(raw, ...cliArgs, '--channel', '0'));
+  // The channels are listed; choosing the second analyses it.
+  assert.deepEqual(await page.$$eval('#channel option', (o) => o.map((x) => x.value)), ['0', '1']);
+  await page.selectOption('#channel', '1');
+  await waitForReport(page, 'adc-capture.bin', 'channel 1 of 2');
+  const expected = cliReport(raw, ...cliArgs, '--channel', '1');
   assertMatchesReport(await pageQuantities(page), expected);
 
   // The link carries the settings (never the data): a fresh page opened with it shows them.
@@ -271,6 +301,7 @@ test('a long analysis shows progress and can be cancelled, keeping the previous 
   const dir = mkdtempSync(join(tmpdir(), 'noisesonde-long-'));
   const big = join(dir, 'long-capture.f32');
   writeFileSync(big, Buffer.alloc(384 * 1024 * 1024)); // 100 M samples of f32 silence
+  await page.click('#layout-form summary'); // the layout can also be given before the file
   await page.selectOption('#raw-format', 'f32le');
   await page.fill('#sample-rate', '1000000');
   await page.setInputFiles('#file-input', big);

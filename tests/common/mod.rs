@@ -74,6 +74,7 @@ impl VecSource {
                 channels: 1,
                 channel: 0,
                 channel_name: None,
+                channel_names: Vec::new(),
                 sample_rate_hz,
                 bits_per_sample: None,
                 full_scale: true,

@@ -45,7 +45,10 @@ usage: cargo xtask TASK
 
 tasks:
   test   run every check CI runs: toolchain and Python setup, rustfmt, clippy,
-         cargo test, reference-vector regeneration, wasm32 core build, CLI end-to-end tests
+         cargo test, reference-vector regeneration, wasm32 core build, CLI end-to-end tests,
+         page end-to-end tests
+  test-page
+         only the page end-to-end tests (builds the page, the single file and the CLI first)
   serve  build the page (wasm, glue, demo recording) into target/site/ and serve it on
          http://127.0.0.1:PORT/ (PORT from NOISESONDE_PORT, default 8000 or the next free one)
   dist   write dist/site/, the static page for any web host, and dist/noisesonde.html,
@@ -213,6 +216,7 @@ fn main() -> ExitCode {
     let ctx = Ctx::new();
     match args.first().map(String::as_str) {
         Some("test") if args.len() == 1 => run_steps("test", &ctx, TEST_STEPS),
+        Some("test-page") if args.len() == 1 => run_steps("test-page", &ctx, PAGE_TEST_STEPS),
         Some("serve") if args.len() == 1 => run_steps("serve", &ctx, SERVE_STEPS),
         Some("dist") if args.len() == 1 => run_steps("dist", &ctx, DIST_STEPS),
         Some("bench") if args.len() == 1 => run_steps("bench", &ctx, BENCH_STEPS),
@@ -260,6 +264,12 @@ const TEST_STEPS: &[Step] = &[
         browser_end_to_end,
     ),
 ];
+
+/// The last step of `test` alone, for work on the page.
+const PAGE_TEST_STEPS: &[Step] = &[(
+    "page end-to-end tests (headless Chromium)",
+    browser_end_to_end,
+)];
 
 /// Adds the rustup components and the wasm32 target when missing (no-op when present).
 /// Without rustup (a distribution toolchain), it checks nothing and leaves failures to the
@@ -635,8 +645,8 @@ fn copy_into(from: &Path, to: &Path) -> Result<(), Failure> {
     })
 }
 
-/// Builds the wasm module with the `web` feature, runs wasm-bindgen, and assembles
-/// `target/site/` from `www/`, the glue and the demo recording.
+/// Builds the wasm module with the `web` feature, runs wasm-bindgen into `www/pkg/`, and
+/// assembles `target/site/` from `www/`, the glue and the demo recording.
 fn build_site(ctx: &Ctx) -> Result<PathBuf, Failure> {
     ensure_rust_toolchain(ctx)?;
     ensure_wasm_bindgen(ctx)?;
@@ -657,7 +667,15 @@ fn build_site(ctx: &Ctx) -> Result<PathBuf, Failure> {
         fs::remove_dir_all(&site)
             .map_err(|err| Failure(format!("cannot clear {}: {err}", site.display())))?;
     }
-    bind_wasm(ctx, "web", &site.join(PKG_DIR))?;
+    // The glue goes beside the page's sources (www/pkg, ignored by git), so www/ itself is a
+    // working page for any static server; the site gets a copy.
+    let glue = ctx.root.join("www").join(PKG_DIR);
+    if glue.exists() {
+        fs::remove_dir_all(&glue)
+            .map_err(|err| Failure(format!("cannot clear {}: {err}", glue.display())))?;
+    }
+    bind_wasm(ctx, "web", &glue)?;
+    copy_tree(&glue, &site.join(PKG_DIR))?;
     for file in PAGE_FILES {
         copy_into(&ctx.root.join("www").join(file), &site.join(file))?;
     }
