@@ -13,7 +13,7 @@ use std::rc::Rc;
 use noisesonde::analysis::{analyze, Settings};
 use noisesonde::plot::{
     colours, decimate_min_max, decimate_min_max_indices, draw_acf, draw_psd, AcfMode,
-    AcfPlotOptions, PlotError, PlotFrame, PsdMode, PsdPlotOptions,
+    AcfPlotOptions, PlotError, PlotFrame, PsdMode, PsdPlotOptions, PsdTrace, TraceKind,
 };
 use noisesonde::report::Report;
 use noisesonde::spectral::WelchSettings;
@@ -928,4 +928,75 @@ fn draws_svg_with_a_real_backend() {
             std::fs::write(dir.join(name), text).unwrap();
         }
     }
+}
+
+/// A live view's peak hold and reference are drawn on the same axes as the average: a peak
+/// hold ten times the average lies one decade (in density) above it, the axis grows to hold
+/// it, the reference is dashed, and the caption names both. A trace of the wrong length is an
+/// error, not a panic.
+#[test]
+fn peak_hold_and_reference_traces_share_the_axes() {
+    let report = noise_report();
+    let peak: Vec<f64> = report.psd.density.iter().map(|p| 10.0 * p).collect();
+    let reference: Vec<f64> = report.psd.density.iter().map(|p| 0.5 * p).collect();
+    let options = PsdPlotOptions {
+        show_ci: false,
+        traces: vec![
+            PsdTrace {
+                kind: TraceKind::PeakHold,
+                label: "peak hold".into(),
+                density: peak.clone(),
+            },
+            PsdTrace {
+                kind: TraceKind::Reference,
+                label: "reference".into(),
+                density: reference,
+            },
+        ],
+        ..psd_options(PsdMode::Density)
+    };
+    let (frame, record) = psd_plot(&report, &options, (800, 500));
+    let frame = frame.unwrap();
+    assert!(record.has_text("peak hold: pink"));
+    assert!(record.has_text("reference: grey, dashed"));
+    let max_peak = peak[1..].iter().copied().fold(f64::MIN, f64::max);
+    assert!(
+        frame.py_at(max_peak) >= frame.top_px,
+        "the axis holds the peak hold"
+    );
+    let peaks = record.paths_of(colours::PEAK_HOLD);
+    assert_eq!(peaks.len(), 1);
+    // At the first bin, 10× the density is one decade of the log axis above the average.
+    let x0 = frame.left_px as i32;
+    let y_at = |shape: &Shape| {
+        shape
+            .points
+            .iter()
+            .find(|p| p.0 == x0)
+            .map(|p| f64::from(p.1))
+    };
+    let decade_px = frame.py_at(1.0) - frame.py_at(10.0);
+    let gap = y_at(&record.curve()).unwrap() - y_at(peaks[0]).unwrap();
+    assert!(
+        (gap - decade_px).abs() <= 1.5,
+        "{gap} px vs a decade of {decade_px} px"
+    );
+    assert!(
+        record.paths_of(colours::REFERENCE).len() > 10,
+        "the reference is drawn in dashes"
+    );
+
+    let short = PsdPlotOptions {
+        traces: vec![PsdTrace {
+            kind: TraceKind::PeakHold,
+            label: "peak hold".into(),
+            density: vec![1.0; 3],
+        }],
+        ..psd_options(PsdMode::Density)
+    };
+    let (result, _) = psd_plot(&report, &short, (800, 500));
+    assert!(
+        matches!(result, Err(PlotError::LengthMismatch { .. })),
+        "{result:?}"
+    );
 }

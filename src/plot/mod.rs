@@ -33,7 +33,8 @@ use serde::{Deserialize, Serialize};
 pub use self::acf::draw_acf;
 pub use self::decimate::{decimate_min_max, decimate_min_max_indices};
 pub use self::options::{
-    nearest_bin, AcfMode, AcfPlotOptions, ParsePlotModeError, PsdMode, PsdPlotOptions,
+    nearest_bin, AcfMode, AcfPlotOptions, ParsePlotModeError, PsdMode, PsdPlotOptions, PsdTrace,
+    TraceKind,
 };
 pub use self::psd::draw_psd;
 pub use self::ticks::{format_hz, format_log_value};
@@ -70,6 +71,10 @@ pub mod colours {
     pub const ONE_OVER_E: RGBColor = RGBColor(0, 130, 95);
     /// The first-zero marker of the autocorrelation: Okabe–Ito vermillion.
     pub const FIRST_ZERO: RGBColor = RGBColor(213, 94, 0);
+    /// A live view's peak-hold trace: Okabe–Ito reddish purple.
+    pub const PEAK_HOLD: RGBColor = RGBColor(204, 121, 167);
+    /// A frozen reference trace: a mid grey.
+    pub const REFERENCE: RGBColor = RGBColor(110, 110, 110);
 }
 
 /// Why a plot could not be drawn.

@@ -175,6 +175,10 @@ pub struct PsdPlotOptions {
     /// Backend pixels per CSS pixel (the device pixel ratio on a canvas); fonts and lines scale
     /// with it.
     pub pixel_ratio: f64,
+    /// Further densities on the same bins drawn over the PSD (a live view's peak hold and
+    /// frozen reference). Set by the caller, never read from JSON.
+    #[serde(skip)]
+    pub traces: Vec<PsdTrace>,
 }
 
 impl Default for PsdPlotOptions {
@@ -184,8 +188,30 @@ impl Default for PsdPlotOptions {
             show_ci: true,
             cursors_hz: vec![],
             pixel_ratio: 1.0,
+            traces: vec![],
         }
     }
+}
+
+/// What a further PSD trace is, which sets its colour and line.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum TraceKind {
+    /// The largest value each bin has reached (a thin line above the average).
+    PeakHold,
+    /// A frozen earlier average to compare against (dashed).
+    Reference,
+}
+
+/// A density (`unit`²/Hz, one value per bin of the report's PSD) drawn over the PSD, named in
+/// the plot's caption.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PsdTrace {
+    /// What it is.
+    pub kind: TraceKind,
+    /// Its name in the caption, e.g. `peak hold`.
+    pub label: String,
+    /// Density per bin, `unit`²/Hz.
+    pub density: Vec<f64>,
 }
 
 /// The quantity on the y axis of an autocorrelation plot.

@@ -4,7 +4,7 @@ use plotters::coord::Shift;
 use plotters::prelude::{Color, DrawingArea, DrawingBackend, PathElement, Polygon, Rectangle};
 
 use super::decimate::{band_envelope, decimate_min_max_indices};
-use super::options::{PsdMode, PsdPlotOptions};
+use super::options::{PsdMode, PsdPlotOptions, TraceKind};
 use super::ticks::{
     format_hz, format_linear, format_log_value, format_seconds, format_significant, linear_ticks,
     log_ticks,
@@ -28,6 +28,8 @@ const RANGE_PAD_POWER_DECADES: f64 = 0.02;
 /// The y range shown when the PSD holds no positive finite value (silence), in decades of
 /// power below 1 unit²/Hz.
 const EMPTY_RANGE_POWER_DECADES: f64 = 12.0;
+/// Points per dash (and per gap) of a reference trace.
+const DASH_POINTS: usize = 6;
 /// Significant digits of the numbers in the caption.
 const CAPTION_DIGITS: i32 = 4;
 
@@ -66,6 +68,9 @@ pub fn draw_psd<DB: DrawingBackend>(
     check_len("psd.power_spectrum", bins, &psd.power_spectrum)?;
     check_len("psd.ci_lower", bins, &psd.ci_lower)?;
     check_len("psd.ci_upper", bins, &psd.ci_upper)?;
+    for trace in &options.traces {
+        check_len("a further PSD trace", bins, &trace.density)?;
+    }
     if options.cursors_hz.len() > 2 {
         return Err(PlotError::TooManyCursors {
             count: options.cursors_hz.len(),
@@ -106,7 +111,21 @@ pub fn draw_psd<DB: DrawingBackend>(
         };
         (convert(&psd.ci_lower), convert(&psd.ci_upper))
     });
-    let (y_lo, y_hi) = y_range(mode, &curve, band.as_ref());
+    // Further traces in axis space, plotted with the curve; they widen the range like it does.
+    let traces: Vec<(TraceKind, Vec<f64>)> = options
+        .traces
+        .iter()
+        .map(|trace| {
+            let values = trace.density.get(first..).unwrap_or_default().iter();
+            let axis = values.map(|&p| to_axis(mode.from_density(p, psd.enbw_hz)));
+            (trace.kind, axis.collect())
+        })
+        .collect();
+    let mut all_curves: Vec<f64> = curve.clone();
+    for (_, values) in &traces {
+        all_curves.extend_from_slice(values);
+    }
+    let (y_lo, y_hi) = y_range(mode, &all_curves, band.as_ref());
 
     let mut caption = vec![
         "Welch PSD".to_string(),
@@ -129,7 +148,16 @@ pub fn draw_psd<DB: DrawingBackend>(
             format_significant(psd.confidence_level * 100.0, CAPTION_DIGITS)
         ));
     }
-    let notes: Vec<String> = mode.unit_note(report).into_iter().collect();
+    let mut notes: Vec<String> = mode.unit_note(report).into_iter().collect();
+    if !options.traces.is_empty() {
+        let legend: Vec<String> = std::iter::once("average: dark blue".to_string())
+            .chain(options.traces.iter().map(|t| match t.kind {
+                TraceKind::PeakHold => format!("{}: pink", t.label),
+                TraceKind::Reference => format!("{}: grey, dashed", t.label),
+            }))
+            .collect();
+        notes.push(legend.join(" · "));
+    }
 
     let x_label = |v: f64| format_hz(10f64.powf(v));
     let y_step = std::cell::Cell::new(0.0);
@@ -223,6 +251,31 @@ pub fn draw_psd<DB: DrawingBackend>(
         .into_iter()
         .filter_map(|i| Some((x_axis(i), *curve.get(i)?)))
         .collect();
+    for (kind, values) in &traces {
+        let values: Vec<f64> = values
+            .iter()
+            .map(|&v| clamp_or_floor(v, y_lo, y_hi))
+            .collect();
+        let points: Vec<(f64, f64)> = decimate_min_max_indices(&x_px, &values)
+            .into_iter()
+            .filter_map(|i| Some((x_axis(i), *values.get(i)?)))
+            .collect();
+        match kind {
+            TraceKind::PeakHold => plot.draw(&PathElement::new(
+                points,
+                colours::PEAK_HOLD.stroke_width(line),
+            ))?,
+            TraceKind::Reference => {
+                // Dashes: every other run of DASH_POINTS points.
+                for dash in points.chunks(DASH_POINTS).step_by(2) {
+                    plot.draw(&PathElement::new(
+                        dash.to_vec(),
+                        colours::REFERENCE.stroke_width(scale.stroke(CURVE_WIDTH_PX)),
+                    ))?;
+                }
+            }
+        }
+    }
     plot.draw(&PathElement::new(
         points,
         colours::CURVE.stroke_width(scale.stroke(CURVE_WIDTH_PX)),

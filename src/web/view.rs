@@ -8,7 +8,8 @@ use web_sys::HtmlCanvasElement;
 
 use crate::bands;
 use crate::plot::{
-    draw_acf, draw_psd, nearest_bin, AcfPlotOptions, PlotFrame, PsdMode, PsdPlotOptions,
+    draw_acf, draw_psd, nearest_bin, AcfPlotOptions, PlotFrame, PsdMode, PsdPlotOptions, PsdTrace,
+    TraceKind,
 };
 use crate::report::Report;
 
@@ -18,6 +19,7 @@ use crate::report::Report;
 #[wasm_bindgen]
 pub struct ReportView {
     report: Report,
+    traces: Vec<PsdTrace>,
     psd_frame: Option<PlotFrame>,
     acf_frame: Option<PlotFrame>,
 }
@@ -57,6 +59,7 @@ impl ReportView {
     fn of(report: Report) -> ReportView {
         ReportView {
             report,
+            traces: Vec::new(),
             psd_frame: None,
             acf_frame: None,
         }
@@ -83,11 +86,47 @@ impl ReportView {
         canvas: &HtmlCanvasElement,
         options_json: &str,
     ) -> Result<(), JsError> {
-        let options: PsdPlotOptions = parse_options(options_json, "PSD plot options")?;
+        let mut options: PsdPlotOptions = parse_options(options_json, "PSD plot options")?;
+        options.traces.clone_from(&self.traces);
         let area = canvas_area(canvas)?;
         let frame =
             draw_psd(&area, &self.report, &options).map_err(|e| JsError::new(&e.to_string()))?;
         self.psd_frame = Some(frame);
+        Ok(())
+    }
+
+    /// Adds a further density (`unit`²/Hz per bin of this report's PSD) drawn over the PSD:
+    /// `kind` is `"peak-hold"` or `"reference"`, `label` its name in the caption.
+    ///
+    /// # Errors
+    /// An unknown kind or a length other than the PSD's.
+    pub fn add_trace(
+        &mut self,
+        kind: &str,
+        label: &str,
+        density: &js_sys::Float64Array,
+    ) -> Result<(), JsError> {
+        let kind = match kind {
+            "peak-hold" => TraceKind::PeakHold,
+            "reference" => TraceKind::Reference,
+            other => {
+                return Err(JsError::new(&format!(
+                    "unknown trace kind '{other}' (peak-hold, reference)"
+                )))
+            }
+        };
+        let bins = self.report.psd.density.len();
+        if density.length() as usize != bins {
+            return Err(JsError::new(&format!(
+                "the {label} trace has {} values for {bins} bins; it belongs to other settings",
+                density.length()
+            )));
+        }
+        self.traces.push(PsdTrace {
+            kind,
+            label: label.to_string(),
+            density: density.to_vec(),
+        });
         Ok(())
     }
 
