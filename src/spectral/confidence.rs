@@ -60,6 +60,25 @@ impl ConfidenceFactors {
     }
 }
 
+/// The median of χ²_ν / ν: an estimate with ν degrees of freedom has its median this fraction
+/// of its mean (for ν = 2, ln 2). Dividing a median of such estimates by it removes the bias.
+/// `None` when ν is not finite and positive.
+///
+/// ```
+/// use noisesonde::spectral::confidence::chi_square_median_over_dof;
+/// // scipy.stats.chi2.ppf(0.5, [2, 10, 60]) = 1.386294361, 9.341817766, 59.334666276
+/// assert!((chi_square_median_over_dof(2.0).unwrap() - 1.386294361119891 / 2.0).abs() < 1e-12);
+/// assert!((chi_square_median_over_dof(10.0).unwrap() - 9.34181776559197 / 10.0).abs() < 1e-12);
+/// assert!((chi_square_median_over_dof(60.0).unwrap() - 59.33466627644246 / 60.0).abs() < 1e-12);
+/// ```
+pub fn chi_square_median_over_dof(dof: f64) -> Option<f64> {
+    if !(dof.is_finite() && dof > 0.0) {
+        return None;
+    }
+    let median = ChiSquared::new(dof).ok()?.inverse_cdf(0.5);
+    (median > 0.0).then_some(median / dof)
+}
+
 /// Equivalent degrees of freedom of Welch's overlapped-segment average.
 ///
 /// # Method
