@@ -5,9 +5,13 @@
 //!
 //! - [`weighting`]: A, C and Z frequency weightings from the analytic definitions of
 //!   IEC 61672-1:2013 Annex E.
+//! - [`octave`]: octave and one-third-octave bands by the base-10 formulas of
+//!   IEC 61260-1:2014, with ISO 266 nominal labels.
 
+pub mod octave;
 pub mod weighting;
 
+pub use octave::{bands_between, Band, BandFraction};
 pub use weighting::Weighting;
 
 /// Reference frequency f_r = 1000 Hz: the frequency where every weighting is 0 dB
