@@ -12,11 +12,14 @@
 //!   IEC 61260-1:2014, with ISO 266 nominal labels.
 //! - [`levels`]: band powers and levels of a one-sided PSD, weighted per bin, integrated with
 //!   [`crate::bands::band_power_of`].
+//! - [`leq`]: a bounded history of per-segment powers giving the session and recent Leq.
 
+pub mod leq;
 pub mod levels;
 pub mod octave;
 pub mod weighting;
 
+pub use leq::LevelHistory;
 pub use levels::{band_levels, BandLevelPlan, BandLevels, BandPower, LevelReference};
 pub use octave::{bands_between, Band, BandFraction};
 pub use weighting::Weighting;
@@ -48,4 +51,23 @@ pub enum AcousticsError {
     },
     #[error("reference power {power} is invalid: it must be a finite number above 0")]
     ReferencePower { power: f64 },
+    #[error("{what} of {seconds} s is invalid: it must be a finite number of seconds above 0")]
+    Duration { what: &'static str, seconds: f64 },
+    #[error("a recent window of {recent_window_s} s at a hop of {hop_s} s needs {segments} segments, more than {max}: use a shorter window or a longer hop")]
+    RecentWindowTooLong {
+        recent_window_s: f64,
+        hop_s: f64,
+        segments: f64,
+        max: usize,
+    },
+    #[error("segment time {time_s} s is invalid: it must be a finite number of seconds")]
+    Time { time_s: f64 },
+    #[error("segment time {time_s} s does not advance by a hop of {hop_s} s from the previous {previous_s} s: times must grow by at least one hop")]
+    TimeNotAdvancing {
+        time_s: f64,
+        previous_s: f64,
+        hop_s: f64,
+    },
+    #[error("segment at {time_s} s has power {power}: a mean square is finite and ≥ 0")]
+    Power { time_s: f64, power: f64 },
 }
