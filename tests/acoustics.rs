@@ -662,6 +662,15 @@ fn times_with_rounding_do_not_change_the_window() {
         let mean: f64 = powers[i + 1 - n..=i].iter().sum::<f64>() / n as f64;
         assert!(rel(history.recent_power().unwrap(), mean) < 1e-13);
     }
+    // A segment exactly N seconds old leaves the window even when rounding puts it an ulp
+    // inside: in binary, 43·0.1 − 1 is below 33·0.1.
+    let (old_s, latest_s) = (f64::from(33) * 0.1, f64::from(43) * 0.1);
+    assert!(latest_s - 1.0 < old_s, "the rounding case this checks");
+    let mut gap = spl_history(0.1, 1.0);
+    gap.push(old_s, power_at(90.0)).unwrap();
+    gap.push(latest_s, power_at(30.0)).unwrap();
+    assert_eq!(gap.recent_segments(), 1);
+    assert!((gap.recent_leq_db().unwrap() - 30.0).abs() < 1e-9);
 }
 
 #[test]
