@@ -9,6 +9,7 @@
 //! The core does no file-system, DOM or clock access; SI units inside, decibels only at the edge.
 
 pub mod acf;
+pub mod acoustics;
 pub mod analysis;
 pub mod bands;
 pub mod error;
