@@ -14,6 +14,7 @@ pub mod bands;
 pub mod error;
 pub mod export;
 pub mod io;
+pub mod live;
 pub mod moments;
 mod numeric;
 pub mod plot;
