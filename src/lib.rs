@@ -19,6 +19,7 @@ pub mod moments;
 mod numeric;
 pub mod plot;
 pub mod report;
+pub mod ring;
 pub mod spectral;
 pub mod units;
 #[cfg(all(target_arch = "wasm32", feature = "web"))]
