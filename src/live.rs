@@ -570,8 +570,8 @@ impl LiveSpectrum {
     /// the segment's windowed mean square divided by the window's mean square (Parseval). A level
     /// over time averages these powers; each sample then counts with the weight
     /// Σ_m w²[n − mS], which is constant when w² overlap-adds to a constant (rectangular at 0 %,
-    /// Hann at 75 % overlap) and ripples otherwise (Hann at 50 %: between 0.5 and 1 of its mean
-    /// times 4/3), so short events are weighted by where they fall (derived here).
+    /// Hann at 75 % overlap) and ripples otherwise (Hann at 50 %: sin⁴ + cos⁴, between 0.5 and 1
+    /// around its mean 0.75), so short events are weighted by where they fall (derived here).
     ///
     /// # Errors
     /// [`SettingsError::BandWeightCount`] above [`MAX_BAND_WEIGHTS`] vectors,
