@@ -21,6 +21,7 @@ pub mod plot;
 pub mod report;
 pub mod ring;
 pub mod spectral;
+pub mod tone;
 pub mod units;
 #[cfg(all(target_arch = "wasm32", feature = "web"))]
 pub mod web;
