@@ -269,11 +269,11 @@ pub fn find_tone(
     let half_width = match settings.half_width_bins {
         Some(0) => return Err(ToneError::HalfWidth),
         Some(k) => k,
-        None => (2.0 * enbw_bins - ENBW_ROUNDING_SLACK).ceil() as usize + 1,
+        None => ((2.0 * enbw_bins - ENBW_ROUNDING_SLACK).ceil() as usize).saturating_add(1),
     };
     // The summed bins must avoid DC (bin 0) and the last bin, whose one-sided factor differs.
     let last_interior = bins.saturating_sub(2);
-    if peak_bin < half_width + 1 || peak_bin.saturating_add(half_width) > last_interior {
+    if peak_bin <= half_width || peak_bin.saturating_add(half_width) > last_interior {
         return Err(ToneError::NearEdge {
             peak_hz,
             half_width_bins: half_width,
@@ -283,7 +283,10 @@ pub fn find_tone(
     let last_bin = peak_bin + half_width;
 
     let below = first_bin.saturating_sub(settings.floor_bins).max(1)..first_bin;
-    let above = last_bin + 1..(last_bin + 1 + settings.floor_bins).min(last_interior + 1);
+    let above = last_bin + 1
+        ..(last_bin + 1)
+            .saturating_add(settings.floor_bins)
+            .min(last_interior + 1);
     let mut floor_values: Vec<f64> = density[below]
         .iter()
         .chain(&density[above])

@@ -14,6 +14,7 @@ use noisesonde::spectral::{Welch, WelchPlan, WelchResult, WelchSettings};
 use noisesonde::tone::{find_tone, find_tone_in, ToneError, ToneSettings};
 use noisesonde::units::{rms_from_level_db, Calibration, SPL_REFERENCE_PA};
 use noisesonde::window::WindowKind;
+use proptest::prelude::*;
 
 /// RMS agreement required (0.5 %).
 const RMS_REL_TOL: f64 = 0.005;
@@ -249,9 +250,45 @@ fn unusable_inputs_are_typed_errors() {
     ));
     let mut spike = flat;
     spike[500] = 1.0;
+    // Absurd widths are errors or clamped, never an overflow.
+    let huge = ToneSettings {
+        half_width_bins: Some(usize::MAX),
+        ..settings
+    };
+    assert!(matches!(
+        find_tone(&spike, 1.0, 1.5, 50.0, &huge),
+        Err(ToneError::NearEdge { .. })
+    ));
+    let wide_floor = ToneSettings {
+        floor_bins: usize::MAX,
+        ..settings
+    };
+    let tone = find_tone(&spike, 1.0, 1.5, 50.0, &wide_floor).unwrap();
+    assert_eq!(tone.floor_bins_used, 1000 - 2 - 9);
     let tone = find_tone(&spike, 1.0, 1.5, 50.0, &settings).unwrap();
     assert!(matches!(
         tone.calibration_factor(-1.0),
         Err(ToneError::ReferenceRms { .. })
     ));
+}
+
+proptest! {
+    /// Any spectrum and settings give a tone or a typed error, never a panic or overflow.
+    #[test]
+    fn arbitrary_inputs_never_panic(
+        density in proptest::collection::vec(
+            prop_oneof![0.0f64..1e3, Just(0.0), Just(f64::MAX), Just(f64::NAN)], 0..200),
+        bin_width_hz in prop_oneof![1e-6f64..1e6, Just(0.0), Just(f64::INFINITY)],
+        enbw_bins in prop_oneof![0.5f64..10.0, Just(1e300)],
+        dof in prop_oneof![1e-3f64..1e6, Just(0.0)],
+        f_lo_hz in -1e3f64..1e5,
+        span_hz in -10.0f64..1e6,
+        half_width_bins in proptest::option::of(0usize..300),
+        floor_bins in prop_oneof![0usize..50, Just(usize::MAX)],
+    ) {
+        let settings = ToneSettings { f_lo_hz, f_hi_hz: f_lo_hz + span_hz, half_width_bins, floor_bins };
+        if let Ok(tone) = find_tone(&density, bin_width_hz, enbw_bins, dof, &settings) {
+            prop_assert!(tone.power > 0.0 && tone.first_bin >= 1 && tone.last_bin + 1 < density.len());
+        }
+    }
 }
