@@ -12,7 +12,7 @@ use common::noise::Noise;
 use noisesonde::analysis::{Analyzer, Settings};
 use noisesonde::spectral::{Welch, WelchPlan, WelchResult, WelchSettings};
 use noisesonde::tone::{find_tone, find_tone_in, ToneError, ToneSettings};
-use noisesonde::units::{rms_from_level_db, Calibration, SPL_REFERENCE_PA};
+use noisesonde::units::{rms_from_level_db, Calibration};
 use noisesonde::window::WindowKind;
 use proptest::prelude::*;
 
@@ -170,7 +170,8 @@ fn calibrating_with_a_94_db_tone_makes_it_read_1_002374_pa() {
         f_hi_hz: 1100.0,
         ..Default::default()
     };
-    let reference = rms_from_level_db(94.0, SPL_REFERENCE_PA);
+    // 94 dB re 20 µPa, the reference pressure of dB SPL (common practice).
+    let reference = rms_from_level_db(94.0, 20e-6);
     assert!((reference - 1.002374).abs() < 5e-7);
     let factor = find_tone_in(&report.psd, &search)
         .unwrap()
