@@ -26,6 +26,32 @@ pub enum SettingsError {
     Unit { unit: String },
     #[error("confidence level {level} is invalid: use a fraction between 0 and 1, e.g. 0.95")]
     ConfidenceLevel { level: f64 },
+    #[error("linear live averaging over {segments} segments of {bins} bins is out of range: use 1 to {max_values} values in all (segments × bins)")]
+    LiveSegments {
+        segments: usize,
+        bins: usize,
+        max_values: usize,
+    },
+    #[error("time constant {time_constant_s} s is invalid: use a finite number of seconds above 0, e.g. 1")]
+    TimeConstant { time_constant_s: f64 },
+    #[error("{count} band-weight vectors are too many: use at most {max}")]
+    BandWeightCount { count: usize, max: usize },
+    #[error("band-weight vector {index} has {len} values but the spectrum has {bins} bins: give one power gain per bin")]
+    BandWeightLength {
+        index: usize,
+        len: usize,
+        bins: usize,
+    },
+    #[error(
+        "band-weight vector {index}, bin {bin}: {value} is not a power gain: use finite values ≥ 0"
+    )]
+    BandWeightValue {
+        index: usize,
+        bin: usize,
+        value: f64,
+    },
+    #[error("segment-power queue of {queue_len} segments is out of range: use 1 to {max}")]
+    PowerQueueLength { queue_len: usize, max: usize },
     #[error("unknown {what} '{text}': use one of {choices}")]
     UnknownChoice {
         what: &'static str,

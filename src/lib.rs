@@ -15,11 +15,14 @@ pub mod bands;
 pub mod error;
 pub mod export;
 pub mod io;
+pub mod live;
 pub mod moments;
 mod numeric;
 pub mod plot;
 pub mod report;
+pub mod ring;
 pub mod spectral;
+pub mod tone;
 pub mod units;
 #[cfg(all(target_arch = "wasm32", feature = "web"))]
 pub mod web;

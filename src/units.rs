@@ -99,3 +99,18 @@ impl DerivedUnits {
 pub fn power_db(power: f64, reference_power: f64) -> f64 {
     10.0 * (power / reference_power).log10()
 }
+
+/// The RMS value of a level given in dB re `reference_rms` (a root-power quantity):
+/// reference_rms × 10^(level_db/20). For a sound calibrator at 94 dB SPL (re 20 µPa) it is
+/// 1.002374 Pa.
+///
+/// ```
+/// use noisesonde::units::rms_from_level_db;
+/// // shared REFERENCES §9 (computed): 94 dB SPL = 1.002374 Pa, 114 dB SPL = 10.02374 Pa,
+/// // re 20 µPa (common practice).
+/// assert!((rms_from_level_db(94.0, 20e-6) - 1.002374).abs() < 5e-7);
+/// assert!((rms_from_level_db(114.0, 20e-6) - 10.02374).abs() < 5e-6);
+/// ```
+pub fn rms_from_level_db(level_db: f64, reference_rms: f64) -> f64 {
+    reference_rms * 10f64.powf(level_db / 20.0)
+}

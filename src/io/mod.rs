@@ -1,4 +1,5 @@
-//! Readers: turn bytes into blocks of `f64` samples of one chosen channel.
+//! Readers: turn bytes into blocks of `f64` samples of one chosen channel; and one writer,
+//! [`wav_writer`], which turns full-scale samples back into a WAV file (to save recorded input).
 //!
 //! Every reader is generic over [`std::io::Read`] (plus [`std::io::Seek`] where the container
 //! format needs it), streams in constant memory in the length of the input, and never panics on
@@ -31,6 +32,7 @@
 pub mod csv;
 pub mod raw;
 pub mod wav;
+pub mod wav_writer;
 
 use std::io::{Read, Seek, SeekFrom};
 
@@ -39,6 +41,7 @@ use serde::{Deserialize, Serialize};
 pub use self::csv::{ColumnSelector, CsvOptions, CsvSource, ParseColumnSelectorError};
 pub use self::raw::{ParseRawFormatError, RawFormat, RawOptions, RawSource};
 pub use self::wav::{WavOptions, WavSource};
+pub use self::wav_writer::{write_wav, WavEncoding, WavSpec, WavWriteError, WavWritten};
 
 /// What a reader found out about its input.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

@@ -215,6 +215,20 @@ impl WelchPlan {
     pub fn figures(&self) -> &WindowFigures {
         &self.figures
     }
+    /// 1/(f_s Σw²): turns a segment's |X[k]|² into a two-sided density (units²/Hz), before
+    /// the one-sided factor of [`WelchPlan::one_sided_factor`].
+    pub(crate) fn density_scale(&self, sample_rate_hz: f64) -> f64 {
+        1.0 / (sample_rate_hz * self.figures.sum_of_squares)
+    }
+    /// c of the one-sided spectrum: 1 at DC and (for even L) Nyquist, else 2.
+    pub(crate) fn one_sided_factor(&self, bin: usize) -> f64 {
+        let has_nyquist = self.settings.segment_len.is_multiple_of(2);
+        if bin == 0 || (has_nyquist && bin == self.bins() - 1) {
+            1.0
+        } else {
+            2.0
+        }
+    }
     /// Whole segments in a record of `samples`: ⌊(N − O)/S⌋ when N ≥ L, else 0.
     pub fn segments_in(&self, samples: u64) -> u64 {
         let l = self.segment_len() as u64;
@@ -234,41 +248,29 @@ const BATCH_MAX_SEGMENTS: usize = 256;
 #[cfg(not(target_arch = "wasm32"))]
 const THREAD_MIN_WORK: usize = 1 << 16;
 
-/// Per-thread buffers: one detrended, windowed segment, its spectrum, FFT scratch, and the
-/// sums of |X[k]|² over the segments it processed.
+/// One segment's detrend, window and real FFT, with its buffers reused from segment to segment.
+/// Shared by [`Welch`] and the live spectrum (`crate::live`), so both transform a segment in
+/// exactly the same way.
 #[derive(Clone)]
-struct SegmentWorker {
+pub(crate) struct SegmentTransform {
     work: Vec<f64>,
     spectrum: Vec<Complex<f64>>,
     scratch: Vec<Complex<f64>>,
-    sum_power: Vec<f64>,
-    /// Every processed segment's |X[k]|² in order (median averaging only).
-    stored_power: Vec<f64>,
 }
 
-impl SegmentWorker {
-    fn new(plan: &WelchPlan) -> Self {
+impl SegmentTransform {
+    pub(crate) fn new(plan: &WelchPlan) -> Self {
         Self {
             work: vec![0.0; plan.segment_len()],
             spectrum: plan.fft.make_output_vec(),
             scratch: plan.fft.make_scratch_vec(),
-            sum_power: vec![0.0; plan.bins()],
-            stored_power: Vec::new(),
         }
     }
 
-    /// Processes the segments starting at `starts` (offsets into `samples`) into fresh sums.
-    fn run(&mut self, plan: &WelchPlan, samples: &[f64], starts: std::ops::Range<usize>) {
-        self.sum_power.fill(0.0);
-        self.stored_power.clear();
-        let len = plan.segment_len();
-        for index in starts {
-            let start = index * plan.step_len();
-            self.segment(plan, &samples[start..start + len]);
-        }
-    }
-
-    fn segment(&mut self, plan: &WelchPlan, seg: &[f64]) {
+    /// X[k], k = 0..L/2, of `seg` (L samples) after the plan's detrend and window. Allocates
+    /// nothing.
+    pub(crate) fn spectrum(&mut self, plan: &WelchPlan, seg: &[f64]) -> &[Complex<f64>] {
+        debug_assert_eq!(seg.len(), plan.segment_len());
         let len = seg.len();
         match plan.settings.detrend {
             Detrend::None => {
@@ -307,12 +309,48 @@ impl SegmentWorker {
             plan.fft
                 .process_with_scratch(&mut self.work, &mut self.spectrum, &mut self.scratch);
         debug_assert!(transformed.is_ok());
-        for (acc, x) in self.sum_power.iter_mut().zip(&self.spectrum) {
+        &self.spectrum
+    }
+}
+
+/// Per-thread buffers: one segment's transform, and the sums of |X[k]|² over the segments it
+/// processed.
+#[derive(Clone)]
+struct SegmentWorker {
+    transform: SegmentTransform,
+    sum_power: Vec<f64>,
+    /// Every processed segment's |X[k]|² in order (median averaging only).
+    stored_power: Vec<f64>,
+}
+
+impl SegmentWorker {
+    fn new(plan: &WelchPlan) -> Self {
+        Self {
+            transform: SegmentTransform::new(plan),
+            sum_power: vec![0.0; plan.bins()],
+            stored_power: Vec::new(),
+        }
+    }
+
+    /// Processes the segments starting at `starts` (offsets into `samples`) into fresh sums.
+    fn run(&mut self, plan: &WelchPlan, samples: &[f64], starts: std::ops::Range<usize>) {
+        self.sum_power.fill(0.0);
+        self.stored_power.clear();
+        let len = plan.segment_len();
+        for index in starts {
+            let start = index * plan.step_len();
+            self.segment(plan, &samples[start..start + len]);
+        }
+    }
+
+    fn segment(&mut self, plan: &WelchPlan, seg: &[f64]) {
+        let spectrum = self.transform.spectrum(plan, seg);
+        for (acc, x) in self.sum_power.iter_mut().zip(spectrum) {
             *acc += x.norm_sqr();
         }
         if plan.settings.average == Average::Median {
             self.stored_power
-                .extend(self.spectrum.iter().map(|x| x.norm_sqr()));
+                .extend(spectrum.iter().map(|x| x.norm_sqr()));
         }
     }
 }
@@ -518,16 +556,9 @@ impl Welch {
             }
         };
         let figures = plan.figures;
-        let density_scale = 1.0 / (sample_rate_hz * figures.sum_of_squares);
+        let density_scale = plan.density_scale(sample_rate_hz);
         let spectrum_scale = 1.0 / (figures.sum * figures.sum);
-        let has_nyquist = segment_len.is_multiple_of(2);
-        let one_sided = |bin: usize| {
-            if bin == 0 || (has_nyquist && bin == bins - 1) {
-                1.0
-            } else {
-                2.0
-            }
-        };
+        let one_sided = |bin: usize| plan.one_sided_factor(bin);
         let density = averaged
             .iter()
             .enumerate()

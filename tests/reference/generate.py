@@ -3,7 +3,8 @@
 
 Writes (into the folder given as the first argument, default: this script's folder):
   inputs/<name>.f64   input signals, little-endian float64
-  vectors.json        scipy.signal.welch / numpy autocorrelation / scipy.stats.chi2 results
+  vectors.json        scipy.signal.welch / numpy autocorrelation / scipy.stats.chi2 results, and
+                      the live spectrum's cases (welch over single segments and the last N)
 
 The inputs come from a 64-bit linear congruential generator in integer arithmetic (constants
 of Knuth's MMIX LCG, from memory), so they do not depend on numpy's random streams; tones use
@@ -87,6 +88,15 @@ WELCH_CASES = [
     ("odd", "hamming", 777, 0.5, "linear", "median"),
 ]
 
+LIVE_CASES = [
+    # input, window, segment_len, overlap_frac, detrend, averaged segments N, segments pushed M,
+    # exponential time constant (s)
+    ("white", "hann", 1024, 0.5, "mean", 1, 8, 0.3),
+    ("white", "hann", 1024, 0.5, "mean", 8, 20, 2.0),
+    ("odd", "hamming", 777, 0.5, "linear", 3, 7, 0.01),
+    ("mixed", "flat-top", 512, 0.75, "none", 5, 30, 0.2),
+]
+
 ACF_CASES = [("white", 300), ("mixed", 2500), ("odd", 7776)]
 
 
@@ -117,6 +127,34 @@ def welch_case(x, fs, window, seg, overlap, detrend, average):
         "segments": segments,
         "enbw_bins": float(seg * np.sum(w ** 2) / np.sum(w) ** 2),
         "dof": float(2 * k / (1 + 2 * total)),
+    }
+
+
+def live_case(x, fs, window, seg, overlap, detrend, n, m, tau):
+    """The live spectrum after M whole segments: scipy.signal.welch over the samples of the last N
+    segments (their mean), the per-bin maximum of every single segment's welch density, and the
+    exponential recursion G <- G + a (P - G) over the single segments' densities, with
+    a = 1 - exp(-step / (fs tau)) and the first segment as the start."""
+    noverlap = min(int(math.floor(overlap * seg + 1e-9)), seg - 1)
+    step = seg - noverlap
+    w = periodic_window(window, seg)
+    det = {"none": False, "mean": "constant", "linear": "linear"}[detrend]
+    kwargs = dict(fs=fs, window=w, nperseg=seg, noverlap=noverlap, detrend=det, scaling="density")
+    start = (m - n) * step
+    stop = start + (n - 1) * step + seg
+    _, last_n = signal.welch(x[start:stop], **kwargs)
+    singles = [signal.welch(x[j * step: j * step + seg], **kwargs)[1] for j in range(m)]
+    alpha = -math.expm1(-step / (fs * tau))
+    ema = singles[0].copy()
+    for p in singles[1:]:
+        ema = ema + alpha * (p - ema)
+    return {
+        "pushed_samples": (m - 1) * step + seg,
+        "last_n_first_sample": start,
+        "last_n_density": last_n.tolist(),
+        "peak_density": np.max(singles, axis=0).tolist(),
+        "exponential_alpha": alpha,
+        "exponential_density": ema.tolist(),
     }
 
 
@@ -165,6 +203,7 @@ def main():
         "inputs": {},
         "welch": [],
         "acf": [],
+        "live": [],
         "windows_4096": window_figures(4096),
         "chi2": [],
     }
@@ -178,6 +217,14 @@ def main():
                 "call": "scipy.signal.welch(x, fs, window=<periodic array>, nperseg, noverlap=floor(overlap*nperseg), detrend, average)"}
         case.update(welch_case(x, fs, window, seg, overlap, detrend, average))
         doc["welch"].append(case)
+    for (name, window, seg, overlap, detrend, n, m, tau) in LIVE_CASES:
+        x, fs = inputs[name]
+        case = {"input": name, "window": window, "segment_len": seg, "overlap_frac": overlap,
+                "detrend": detrend, "linear_segments": n, "segments_pushed": m,
+                "time_constant_s": tau,
+                "call": "scipy.signal.welch(x[segment samples], fs, window=<periodic array>, nperseg, noverlap, detrend, scaling='density')"}
+        case.update(live_case(x, fs, window, seg, overlap, detrend, n, m, tau))
+        doc["live"].append(case)
     for name, max_lag in ACF_CASES:
         x, _ = inputs[name]
         case = {"input": name, "max_lag_len": max_lag}

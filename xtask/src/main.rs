@@ -33,6 +33,8 @@ const RUST_COMPONENTS: [&str; 2] = ["rustfmt", "clippy"];
 const PY_REQUIREMENTS: &str = "tests/requirements.txt";
 /// Folder of the CLI's end-to-end tests (written alongside the CLI).
 const PY_E2E_DIR: &str = "tests/python";
+/// Example that writes WAV files with the crate's writer, for tests/python/test_wav_writer.py.
+const WAV_WRITE_EXAMPLE: &str = "wav_write";
 /// pytest's exit status when it collected no test.
 const PYTEST_NO_TESTS_COLLECTED: i32 = 5;
 /// Demo recording that `serve` analyses, with its calibration.
@@ -478,7 +480,8 @@ fn build_release_cli(ctx: &Ctx) -> Result<PathBuf, Failure> {
     Ok(bin)
 }
 
-/// Builds the release CLI and runs the end-to-end pytest suite against it.
+/// Builds the release CLI and the WAV-writer example, and runs the end-to-end pytest suite
+/// against them.
 fn cli_end_to_end(ctx: &Ctx) -> StepResult {
     if !ctx.root.join(PY_E2E_DIR).is_dir() {
         return Ok(Outcome::Skipped(format!(
@@ -486,9 +489,16 @@ fn cli_end_to_end(ctx: &Ctx) -> StepResult {
         )));
     }
     let bin = build_release_cli(ctx)?;
+    ctx.cargo(&["build", "--release", "--example", WAV_WRITE_EXAMPLE])
+        .run()?;
+    let wav_write = ctx
+        .root
+        .join("target/release/examples")
+        .join(WAV_WRITE_EXAMPLE);
     let code = ctx
         .tool("python3", &["-m", "pytest", PY_E2E_DIR, "-q"])
         .env("NOISESONDE_BIN", &bin)
+        .env("NOISESONDE_WAV_WRITE", &wav_write)
         .run_code()?;
     match code {
         Some(0) => Ok(Outcome::Passed),
