@@ -58,6 +58,10 @@ pub enum SettingsError {
         text: String,
         choices: &'static str,
     },
+    #[error("input channel {channel} does not exist: the capture has {channels} channel(s), numbered from 0")]
+    LiveChannel { channel: usize, channels: usize },
+    #[error("live listening cannot start: {problem}")]
+    Live { problem: String },
 }
 
 /// Problems found in the samples themselves.
@@ -78,6 +82,17 @@ pub enum AnalysisError {
         bins: usize,
         max_values: usize,
     },
+    #[error("a captured block of {len} samples does not hold {frames} frames × {channels} channels (the session expects {expected_channels} channels)")]
+    BlockShape {
+        len: usize,
+        frames: usize,
+        channels: usize,
+        expected_channels: usize,
+    },
+    #[error("no tone near {frequency_hz} Hz stands clearly above the noise: is the calibrator on the microphone and switched on, at that frequency?")]
+    NoCalibratorTone { frequency_hz: f64 },
+    #[error("live listening: {problem}")]
+    Live { problem: String },
 }
 
 /// Any failure of the pipeline.

@@ -15,6 +15,7 @@ pub mod bands;
 pub mod error;
 pub mod export;
 pub mod io;
+pub mod listen;
 pub mod live;
 pub mod moments;
 mod numeric;

@@ -41,7 +41,9 @@ use serde::{Deserialize, Serialize};
 pub use self::csv::{ColumnSelector, CsvOptions, CsvSource, ParseColumnSelectorError};
 pub use self::raw::{ParseRawFormatError, RawFormat, RawOptions, RawSource};
 pub use self::wav::{WavOptions, WavSource};
-pub use self::wav_writer::{write_wav, WavEncoding, WavSpec, WavWriteError, WavWritten};
+pub use self::wav_writer::{
+    write_wav, write_wav_parts, WavEncoding, WavSpec, WavWriteError, WavWritten,
+};
 
 /// What a reader found out about its input.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

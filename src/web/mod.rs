@@ -4,12 +4,14 @@
 //! | export | where | what |
 //! | --- | --- | --- |
 //! | `analyze_file(file, input_json, settings_json, on_progress)` | Web Worker | the report of a `File`: `{summary, arrays}`, the report's JSON (the command line's serializer) without its long arrays, and those arrays as `Float64Array`s the worker transfers to the page |
+//! | `LiveSession` | Web Worker (live) | blocks from the capture worklet in, frames (`{summary, arrays, live}`) out; calibrator tone, recording |
 //! | `ReportView` | main thread | a report rebuilt from that summary and those arrays (or read from whole JSON): draws the PSD and ACF on canvases, reads values under the mouse, integrates bands, writes the JSON and CSV exports |
 //!
 //! Enums cross as strings parsed with `FromStr`; errors become `Error` objects whose message is
 //! the library's own (for example `cut.wav: header is truncated: …`).
 
 mod file_reader;
+mod live;
 mod view;
 
 use std::str::FromStr;
@@ -21,6 +23,7 @@ use crate::analysis::{analyze, Settings};
 use crate::io::{ColumnSelector, InputOptions, RawFormat, ReadError};
 
 pub use self::file_reader::{FileSliceReader, SLICE_BYTES};
+pub use self::live::LiveBinding;
 pub use self::view::ReportView;
 
 /// Runs when the module is instantiated: panics become readable JavaScript errors (with the
