@@ -4,7 +4,8 @@
 // by Rust (ReportView) on the canvases.
 import init, { ReportView } from './pkg/noisesonde.js';
 import { MSG } from './protocol.js';
-import { wasmBytes, createWorker, demoFile } from './platform.js';
+import { wasmBytes, createWorker, demoFile, captureWorkletUrl } from './platform.js';
+import { initLive } from './live.js';
 
 /** The demo recording's calibration, as its README states: 1.0 full scale = 2 V. */
 const DEMO = { scale: '2', unit: 'V' };
@@ -307,7 +308,7 @@ function showReport(summary, arrays) {
   $.layoutForm.classList.remove('needed');
   renderRunLine(r);
   renderWarnings(r.warnings);
-  renderQuantities(r);
+  renderQuantities($.quantities, r);
   $.results.hidden = false;
   updateDerived();
   drawPlots();
@@ -343,8 +344,11 @@ function renderWarnings(warnings) {
   }));
 }
 
-/** @param {any} r */
-function renderQuantities(r) {
+/**
+ * The lab-quantities table of a report (a file's, or a live frame's).
+ * @param {HTMLTableElement} table @param {any} r
+ */
+function renderQuantities(table, r) {
   const u = r.units;
   const m = r.moments;
   const c = r.checks;
@@ -368,7 +372,7 @@ function renderQuantities(r) {
     ['Crest factor', 'moments.crest_factor', m.crest_factor, '', 'peak ÷ RMS'],
     ['Clipped samples', 'moments.clipped_samples', m.clipped_samples, '', 'samples at or beyond full scale'],
   ];
-  const body = $.quantities.tBodies[0];
+  const body = table.tBodies[0];
   body.replaceChildren(...rows.map(([label, path, value, unit, meaning]) => {
     const tr = document.createElement('tr');
     const th = document.createElement('th');
@@ -597,6 +601,19 @@ async function main() {
     resizeTimer = window.setTimeout(drawPlots, 150);
   });
   wireExports();
+  const live = initLive({
+    module: () => wasmModule,
+    createWorker,
+    workletUrl: captureWorkletUrl,
+    ReportView,
+    readSettings,
+    quantity,
+    renderQuantities,
+    sizeCanvas,
+    formatNumber,
+    calibrationFields: { scale: $.scale, unit: $.unit },
+  });
+  $.form.addEventListener('submit', () => live.restart());
   await loadDemo(demo);
 }
 

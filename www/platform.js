@@ -22,3 +22,8 @@ export async function demoFile() {
   if (!response.ok) throw new Error(`HTTP ${response.status}`);
   return new File([await response.blob()], name, { type: 'audio/wav' });
 }
+
+/** The capture worklet's script (same origin), for live listening. */
+export function captureWorkletUrl() {
+  return new URL('./capture-worklet.js', import.meta.url);
+}

@@ -13,6 +13,20 @@
  *                  'channel' when the page can ask the user; otherwise undefined)
  * Cancelling terminates the worker; the page starts a fresh one. Replies whose id is not the
  * newest request are dropped.
+ *
+ * Listening live uses a second worker of the same code:
+ * page → worker: { type: 'live-start', port, source, settings, live }
+ *                  (port: the MessagePort the capture worklet sends blocks to; source:
+ *                  { sample_rate_hz, channels, channel }; live: the live settings)
+ *                { type: 'live-tone', id, frequency_hz, reference_rms }
+ *                { type: 'live-record', id, seconds, format }     ('f32' or 's24')
+ *                { type: 'live-restart' }                        (averages start again)
+ * worker → page: { type: 'live-frame', summary, arrays, live }   (at most every FRAME_MS;
+ *                  summary/arrays as for 'result', live: levels, bands, tone, floor, counts)
+ *                { type: 'live-tone-result', id, tone }  { type: 'live-recording', id, wav, report }
+ *                { type: 'error', id, message }
+ * The worklet → worker port carries { type: 'block', block, frames, channels, droppedFrames }
+ * (block transferred) and the worker returns each block with { type: 'return', block }.
  */
 export const MSG = Object.freeze({
   INIT: 'init',
@@ -21,4 +35,14 @@ export const MSG = Object.freeze({
   PROGRESS: 'progress',
   RESULT: 'result',
   ERROR: 'error',
+  LIVE_START: 'live-start',
+  LIVE_TONE: 'live-tone',
+  LIVE_RECORD: 'live-record',
+  LIVE_RESTART: 'live-restart',
+  LIVE_FRAME: 'live-frame',
+  LIVE_TONE_RESULT: 'live-tone-result',
+  LIVE_RECORDING: 'live-recording',
 });
+
+/** Time between two live frames, ms: 20 frames per second while blocks arrive. */
+export const FRAME_MS = 50;

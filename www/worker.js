@@ -2,8 +2,75 @@
 // The analysis worker: owns a wasm instance, reads the dropped File in slices (FileReaderSync is
 // only available in workers) and streams it through the same Rust pipeline as the command line.
 // The page compiles the wasm once and sends the module, so this file needs no network access.
-import init, { analyze_file } from './pkg/noisesonde.js';
-import { MSG } from './protocol.js';
+// A second instance of this worker serves live listening: blocks arrive from the capture
+// worklet on a MessagePort and go into the same pipeline (LiveSession); frames go to the page.
+import init, { analyze_file, LiveSession } from './pkg/noisesonde.js';
+import { MSG, FRAME_MS } from './protocol.js';
+
+/** @type {LiveSession | null} */
+let live = null;
+let lastFrame = 0;
+
+/** Arrays of a frame or result live in the JavaScript heap: transfer them, never copy. */
+function buffersOf(/** @type {Record<string, Float64Array>} */ arrays) {
+  return Object.values(arrays).map((a) => a.buffer);
+}
+
+function sendFrame() {
+  if (!live) return;
+  try {
+    const frame = live.frame();
+    if (!frame) return; // not one whole segment yet
+    const { summary, arrays, live: extras } = frame;
+    self.postMessage({ type: MSG.LIVE_FRAME, summary, arrays, live: extras }, buffersOf(arrays));
+  } catch (err) {
+    self.postMessage({ type: MSG.ERROR, id: -2, message: err instanceof Error ? err.message : String(err) });
+  }
+}
+
+/** A block from the capture worklet: analyse it, hand its buffer back for reuse. */
+function onBlock(/** @type {MessagePort} */ port, /** @type {MessageEvent} */ event) {
+  const msg = event.data;
+  if (msg.type !== 'block') return;
+  if (live) {
+    try {
+      live.push(msg.block, msg.frames, msg.channels, msg.droppedFrames);
+    } catch (err) {
+      self.postMessage({ type: MSG.ERROR, id: -2, message: err instanceof Error ? err.message : String(err) });
+    }
+  }
+  port.postMessage({ type: 'return', block: msg.block }, [msg.block.buffer]);
+  const now = performance.now();
+  if (now - lastFrame >= FRAME_MS) {
+    lastFrame = now;
+    sendFrame();
+  }
+}
+
+/** @param {any} msg */
+async function onLive(msg) {
+  await ready;
+  if (msg.type === MSG.LIVE_START) {
+    live?.free();
+    live = null;
+    live = new LiveSession(JSON.stringify(msg.source), JSON.stringify(msg.settings), JSON.stringify(msg.live));
+    if (msg.port) {
+      const port = /** @type {MessagePort} */ (msg.port);
+      port.onmessage = (event) => onBlock(port, event);
+    }
+  } else if (msg.type === MSG.LIVE_RESTART) {
+    live?.restart();
+  } else if (msg.type === MSG.LIVE_TONE) {
+    if (!live) throw new Error('not listening');
+    const tone = live.calibrator_tone(msg.frequency_hz, msg.reference_rms);
+    self.postMessage({ type: MSG.LIVE_TONE_RESULT, id: msg.id, tone });
+  } else if (msg.type === MSG.LIVE_RECORD) {
+    if (!live) throw new Error('not listening');
+    const wav = live.recording(msg.seconds, msg.format);
+    const report = live.report_json();
+    self.postMessage({ type: MSG.LIVE_RECORDING, id: msg.id, wav, report }, [wav.buffer]);
+  }
+}
 
 /** @type {Promise<unknown> | null} */
 let ready = null;
@@ -18,6 +85,16 @@ self.onmessage = async (event) => {
     );
     return;
   }
+  if (typeof msg.type === 'string' && msg.type.startsWith('live-')) {
+    try {
+      if (!ready) throw new Error('the analysis engine was not started');
+      await onLive(msg);
+    } catch (err) {
+      const message = err instanceof Error ? err.message : String(err);
+      self.postMessage({ type: MSG.ERROR, id: msg.id ?? -2, message });
+    }
+    return;
+  }
   if (msg.type !== MSG.ANALYZE) return;
   try {
     if (!ready) throw new Error('the analysis engine was not started');
@@ -29,9 +106,7 @@ self.onmessage = async (event) => {
       (/** @type {number} */ bytes, /** @type {number} */ total) =>
         self.postMessage({ type: MSG.PROGRESS, id: msg.id, bytes, total }),
     );
-    // The arrays live in the JavaScript heap (not wasm memory): transfer them, do not copy.
-    const buffers = Object.values(arrays).map((/** @type {Float64Array} */ a) => a.buffer);
-    self.postMessage({ type: MSG.RESULT, id: msg.id, summary, arrays }, buffers);
+    self.postMessage({ type: MSG.RESULT, id: msg.id, summary, arrays }, buffersOf(arrays));
   } catch (err) {
     const message = err instanceof Error ? err.message : String(err);
     // `kind` (set by the Rust side) tells the page which question to ask: 'layout',

@@ -10,6 +10,7 @@ import { tmpdir } from 'node:os';
 import { join, dirname } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { chromium } from 'playwright-core';
+import { writeWav } from './signals.mjs';
 
 const SITE_URL = process.env.SITE_URL ?? 'http://127.0.0.1:8700/';
 const CHROMIUM = process.env.CHROMIUM ?? '/usr/bin/chromium';
@@ -68,18 +69,6 @@ function assertMatchesReport(quantities, report) {
     compared += 1;
   }
   assert.ok(compared >= 20, `only ${compared} quantities compared`);
-}
-
-/** A mono 16-bit PCM WAV (RIFF layout per the 1991 Multimedia Programming Interface spec). */
-function writeWav(path, samples, rate) {
-  const data = Buffer.alloc(samples.length * 2);
-  samples.forEach((v, i) => data.writeInt16LE(Math.max(-32768, Math.min(32767, Math.round(v * 32768))), i * 2));
-  const header = Buffer.alloc(44);
-  header.write('RIFF', 0); header.writeUInt32LE(36 + data.length, 4); header.write('WAVE', 8);
-  header.write('fmt ', 12); header.writeUInt32LE(16, 16); header.writeUInt16LE(1, 20); header.writeUInt16LE(1, 22);
-  header.writeUInt32LE(rate, 24); header.writeUInt32LE(rate * 2, 28); header.writeUInt16LE(2, 32); header.writeUInt16LE(16, 34);
-  header.write('data', 36); header.writeUInt32LE(data.length, 40);
-  writeFileSync(path, Buffer.concat([header, data]));
 }
 
 async function waitForReport(page, sourceName, alsoContains = '') {

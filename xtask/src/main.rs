@@ -550,9 +550,11 @@ fn demo_analysis(ctx: &Ctx) -> StepResult {
 /// Where the assembled page goes (served by `serve`, copied by `dist`, tested by `test`).
 const SITE_DIR: &str = "target/site";
 /// The page's own files, copied as they are.
-const PAGE_FILES: [&str; 6] = [
+const PAGE_FILES: [&str; 8] = [
     "index.html",
     "app.js",
+    "live.js",
+    "capture-worklet.js",
     "worker.js",
     "protocol.js",
     "platform.js",
@@ -812,6 +814,7 @@ fn dist_single(ctx: &Ctx) -> Result<PathBuf, Failure> {
     let www = ctx.root.join("www");
     let protocol = without_module_syntax(&read_text(&www.join("protocol.js"))?);
     let worker = without_module_syntax(&read_text(&www.join("worker.js"))?);
+    let live = without_module_syntax(&read_text(&www.join("live.js"))?);
     let app = without_module_syntax(&read_text(&www.join("app.js"))?);
     let style = read_text(&www.join("style.css"))?;
     let html = read_text(&www.join("index.html"))?;
@@ -820,7 +823,7 @@ fn dist_single(ctx: &Ctx) -> Result<PathBuf, Failure> {
         .map_or_else(String::new, |n| n.to_string_lossy().into_owned());
 
     let worker_source = format!(
-        "{glue}\n{protocol}\nconst init = wasm_bindgen;\nconst {{ analyze_file }} = wasm_bindgen;\n{worker}\n"
+        "{glue}\n{protocol}\nconst init = wasm_bindgen;\nconst {{ analyze_file, LiveSession }} = wasm_bindgen;\n{worker}\n"
     );
     let platform = format!(
         r#"// Single-file platform: the wasm and the demo recording are inside this page.
@@ -841,6 +844,8 @@ function createWorker() {{
 async function demoFile() {{
   return new File([fromBase64(DEMO_BASE64)], {demo_name}, {{ type: 'audio/wav' }});
 }}
+// Listening needs a served page: a worklet cannot start from this file.
+function captureWorkletUrl() {{ return null; }}
 "#,
         wasm = base64(&wasm_bytes),
         demo = base64(&demo_bytes),
@@ -848,7 +853,7 @@ async function demoFile() {{
         demo_name = js_string(&demo_name),
     );
     let script = format!(
-        "{glue}\n{protocol}\n{platform}\nconst init = wasm_bindgen;\nconst {{ ReportView }} = wasm_bindgen;\n{app}\n"
+        "{glue}\n{protocol}\n{platform}\nconst init = wasm_bindgen;\nconst {{ ReportView }} = wasm_bindgen;\n{live}\n{app}\n"
     )
     .replace("</script", "<\\/script");
 
