@@ -546,13 +546,17 @@ async function main() {
   await init({ module_or_path: wasmModule });
   startWorker();
 
-  /** A new recording does not inherit the demo's 2 V calibration unless the user set it. */
-  const openOwn = (/** @type {File} */ file) => {
+  /** A new recording or a live input does not inherit the demo's 2 V calibration unless the
+   * user set it. */
+  const dropDemoCalibration = () => {
     if (state.demoCalibration) {
       $.scale.value = '1';
       $.unit.value = '';
       state.demoCalibration = false;
     }
+  };
+  const openOwn = (/** @type {File} */ file) => {
+    dropDemoCalibration();
     // A new file starts on its first channel (a raw layout keeps its channel count).
     listChannels($.rawFormat.value ? Number($.rawChannels.value) || 1 : 1, 0);
     analyze(file);
@@ -612,6 +616,7 @@ async function main() {
     sizeCanvas,
     formatNumber,
     calibrationFields: { scale: $.scale, unit: $.unit },
+    ownInput: dropDemoCalibration,
   });
   $.form.addEventListener('submit', () => live.restart());
   await loadDemo(demo);

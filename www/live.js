@@ -23,6 +23,7 @@ const P0_PA = 20e-6;
  * @property {(canvas: HTMLCanvasElement) => number} sizeCanvas
  * @property {(v: number | null | undefined) => string} formatNumber
  * @property {{ scale: HTMLInputElement, unit: HTMLInputElement }} calibrationFields
+ * @property {() => void} ownInput forget the demo recording's calibration (not the user's own)
  */
 
 /** @param {string} id */
@@ -53,6 +54,9 @@ export function initLive(deps) {
     overload: byId('overload'),
     clipped: byId('live-clipped'),
     dropped: byId('live-dropped'),
+    rate: byId('live-rate'),
+    fps: byId('live-fps'),
+    load: byId('live-load'),
     duration: byId('live-duration'),
     captureTable: /** @type {HTMLTableElement} */ (byId('capture-table')),
     captureWarnings: byId('capture-warnings'),
@@ -95,6 +99,8 @@ export function initLive(deps) {
     /** @type {any} */ frame: null,
     /** @type {Float64Array | null} */ reference: null,
     drawPending: false,
+    /** Arrival times of recent frames (ms), for the frame rate shown. */
+    /** @type {number[]} */ frameTimes: [],
     requestId: 0,
     /** @type {Map<number, (msg: any) => void>} */ waiting: new Map(),
   };
@@ -179,6 +185,7 @@ export function initLive(deps) {
     const channels = Math.max(1, Number(granted.channelCount) || 1);
     showCapture(asked, granted, context, track.label);
     listChannels(channels);
+    deps.ownInput();
     useStoredCalibration();
 
     await context.audioWorklet.addModule(/** @type {string | URL} */ (deps.workletUrl()));
@@ -313,6 +320,9 @@ export function initLive(deps) {
     const msg = event.data;
     if (msg.type === MSG.LIVE_FRAME) {
       session.frame = msg;
+      const now = performance.now();
+      session.frameTimes.push(now);
+      while (session.frameTimes.length > 0 && now - session.frameTimes[0] > 2000) session.frameTimes.shift();
       scheduleDraw();
     } else if (msg.type === MSG.ERROR && msg.id >= 0) {
       session.waiting.get(msg.id)?.({ error: msg.message });
@@ -386,8 +396,16 @@ export function initLive(deps) {
   function renderStatus(report, live) {
     $.clipped.replaceChildren(deps.quantity('moments.clipped_samples', report.moments.clipped_samples));
     $.dropped.replaceChildren(deps.quantity('live.dropped_frames', live.dropped_frames));
-    $.duration.replaceChildren(deps.quantity('duration_s', report.duration_s));
+    $.rate.replaceChildren(deps.quantity('sample_rate_hz', report.sample_rate_hz, 'Hz'));
+    $.duration.replaceChildren(deps.quantity('duration_s', report.duration_s, 's'));
     $.overload.hidden = !live.overload;
+    const times = session.frameTimes;
+    const fps = times.length > 1 ? (1000 * (times.length - 1)) / (times[times.length - 1] - times[0]) : NaN;
+    $.fps.replaceChildren(deps.quantity('live.frames_per_s', fps));
+    const load = session.frame?.load;
+    const share = load && load.wall_ms > 0 ? load.busy_ms / load.wall_ms : NaN;
+    $.load.replaceChildren(deps.quantity('live.worker_load', share));
+    $.load.append(Number.isFinite(share) ? ` (${(share * 100).toFixed(1)} %)` : '');
   }
 
   /** @param {any} report @param {any} live */

@@ -21,8 +21,9 @@
  *                { type: 'live-tone', id, frequency_hz, reference_rms }
  *                { type: 'live-record', id, seconds, format }     ('f32' or 's24')
  *                { type: 'live-restart' }                        (averages start again)
- * worker → page: { type: 'live-frame', summary, arrays, live }   (at most every FRAME_MS;
- *                  summary/arrays as for 'result', live: levels, bands, tone, floor, counts)
+ * worker → page: { type: 'live-frame', summary, arrays, live, load }   (every FRAME_MS while
+ *                  blocks arrive; summary/arrays as for 'result'; live: levels, bands, tone,
+ *                  floor, counts; load: { busy_ms, wall_ms } of the worker since the start)
  *                { type: 'live-tone-result', id, tone }  { type: 'live-recording', id, wav, report }
  *                { type: 'error', id, message }
  * The worklet → worker port carries { type: 'block', block, frames, channels, droppedFrames }

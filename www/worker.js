@@ -10,6 +10,10 @@ import { MSG, FRAME_MS } from './protocol.js';
 /** @type {LiveSession | null} */
 let live = null;
 let lastFrame = 0;
+/** Time spent analysing blocks and building frames since listening started, and when it did:
+ * their ratio is the share of one core the live analysis takes. */
+let busyMs = 0;
+let startedMs = 0;
 
 /** Arrays of a frame or result live in the JavaScript heap: transfer them, never copy. */
 function buffersOf(/** @type {Record<string, Float64Array>} */ arrays) {
@@ -22,7 +26,8 @@ function sendFrame() {
     const frame = live.frame();
     if (!frame) return; // not one whole segment yet
     const { summary, arrays, live: extras } = frame;
-    self.postMessage({ type: MSG.LIVE_FRAME, summary, arrays, live: extras }, buffersOf(arrays));
+    const load = { busy_ms: busyMs, wall_ms: performance.now() - startedMs };
+    self.postMessage({ type: MSG.LIVE_FRAME, summary, arrays, live: extras, load }, buffersOf(arrays));
   } catch (err) {
     self.postMessage({ type: MSG.ERROR, id: -2, message: err instanceof Error ? err.message : String(err) });
   }
@@ -32,6 +37,7 @@ function sendFrame() {
 function onBlock(/** @type {MessagePort} */ port, /** @type {MessageEvent} */ event) {
   const msg = event.data;
   if (msg.type !== 'block') return;
+  const started = performance.now();
   if (live) {
     try {
       live.push(msg.block, msg.frames, msg.channels, msg.droppedFrames);
@@ -40,11 +46,11 @@ function onBlock(/** @type {MessagePort} */ port, /** @type {MessageEvent} */ ev
     }
   }
   port.postMessage({ type: 'return', block: msg.block }, [msg.block.buffer]);
-  const now = performance.now();
-  if (now - lastFrame >= FRAME_MS) {
-    lastFrame = now;
+  if (started - lastFrame >= FRAME_MS) {
+    lastFrame = started;
     sendFrame();
   }
+  busyMs += performance.now() - started;
 }
 
 /** @param {any} msg */
@@ -54,6 +60,8 @@ async function onLive(msg) {
     live?.free();
     live = null;
     live = new LiveSession(JSON.stringify(msg.source), JSON.stringify(msg.settings), JSON.stringify(msg.live));
+    busyMs = 0;
+    startedMs = performance.now();
     if (msg.port) {
       const port = /** @type {MessagePort} */ (msg.port);
       port.onmessage = (event) => onBlock(port, event);

@@ -40,9 +40,10 @@ async function browserPlaying(wav) {
   });
 }
 
-/** Every data-quantity on the page into { path: number }. */
+/** Every data-quantity of the live section into { path: number } (the file's report, shown
+ * elsewhere on the page, uses the same names). */
 async function quantities(page) {
-  return page.$$eval('[data-quantity]', (nodes) => Object.fromEntries(
+  return page.$$eval('#live-section [data-quantity]', (nodes) => Object.fromEntries(
     nodes.filter((n) => n.dataset.value !== undefined && n.dataset.value !== '')
       .map((n) => [n.dataset.quantity, Number(n.dataset.value)])));
 }
@@ -50,7 +51,7 @@ async function quantities(page) {
 /** Starts listening and waits until at least `seconds` of input have been analysed. */
 async function listen(page, seconds) {
   await page.goto(SITE_URL);
-  await page.waitForSelector('[data-quantity="sample_rate_hz"]', { timeout: SETTLE_TIMEOUT_MS }); // the demo is in
+  await page.waitForSelector('#results [data-quantity="sample_rate_hz"]', { timeout: SETTLE_TIMEOUT_MS }); // the demo is in
   await page.click('[data-action="listen"]');
   await page.waitForFunction((s) => Number(document.querySelector('#live-duration [data-quantity="duration_s"]')?.getAttribute('data-value')) >= s,
     seconds, { timeout: SETTLE_TIMEOUT_MS });

@@ -57,7 +57,8 @@ tasks:
          one self-contained file that works when opened from disk (file://)
   bench  build examples/bench.rs (release) and compare it with numpy/scipy via xtask/bench.py
          (target/bench-results.md); then time the page in headless Chromium against the
-         native CLI via xtask/bench_page.mjs (target/bench-page.md)
+         native CLI via xtask/bench_page.mjs (target/bench-page.md); then live listening
+         (frames per second, worker load) via xtask/bench_live.mjs (target/bench-live.md)
   help   show this text
 
 internal (used by xtask/bench.py):
@@ -1044,6 +1045,10 @@ const BENCH_STEPS: &[Step] = &[
         "page benchmark (wasm in headless Chromium vs the native CLI)",
         bench_page,
     ),
+    (
+        "live listening benchmark (frames per second, worker load)",
+        bench_live,
+    ),
 ];
 
 fn bench(ctx: &Ctx) -> StepResult {
@@ -1089,6 +1094,27 @@ fn bench_page(ctx: &Ctx) -> StepResult {
         .run()?;
     drop(server);
     println!("--- page benchmark table: {}", out.display());
+    Ok(Outcome::Passed)
+}
+
+/// Where `xtask/bench_live.mjs` writes its Markdown table.
+const BENCH_LIVE_RESULTS: &str = "target/bench-live.md";
+
+/// Live listening under load: the page served on 127.0.0.1 listens to Chromium's fake capture
+/// device; `xtask/bench_live.mjs` reads the frame rate and the worker's share of one core.
+fn bench_live(ctx: &Ctx) -> StepResult {
+    ensure_chromium(ctx)?;
+    ensure_node_packages(ctx)?;
+    let site = build_site(ctx)?;
+    let out = ctx.root.join(BENCH_LIVE_RESULTS);
+    let server = Server::start(ctx, &site, free_port(8760)?)?;
+    ctx.tool("node", &["xtask/bench_live.mjs"])
+        .env("SITE_URL", &server.url)
+        .env("CHROMIUM", CHROMIUM)
+        .env("OUT", &out)
+        .run()?;
+    drop(server);
+    println!("--- live benchmark table: {}", out.display());
     Ok(Outcome::Passed)
 }
 
