@@ -9,7 +9,9 @@ import { MSG, FRAME_MS } from './protocol.js';
 
 /** @type {LiveSession | null} */
 let live = null;
-let lastFrame = 0;
+/** When the next frame is due (ms, performance.now()); frames follow a fixed clock so that
+ * blocks arriving every ~21 ms give one frame per FRAME_MS on average, not one per third block. */
+let nextFrame = 0;
 /** Time spent analysing blocks and building frames since listening started, and when it did:
  * their ratio is the share of one core the live analysis takes. */
 let busyMs = 0;
@@ -46,8 +48,8 @@ function onBlock(/** @type {MessagePort} */ port, /** @type {MessageEvent} */ ev
     }
   }
   port.postMessage({ type: 'return', block: msg.block }, [msg.block.buffer]);
-  if (started - lastFrame >= FRAME_MS) {
-    lastFrame = started;
+  if (started >= nextFrame) {
+    nextFrame = Math.max(nextFrame + FRAME_MS, started);
     sendFrame();
   }
   busyMs += performance.now() - started;
@@ -62,6 +64,7 @@ async function onLive(msg) {
     live = new LiveSession(JSON.stringify(msg.source), JSON.stringify(msg.settings), JSON.stringify(msg.live));
     busyMs = 0;
     startedMs = performance.now();
+    nextFrame = startedMs;
     if (msg.port) {
       const port = /** @type {MessagePort} */ (msg.port);
       port.onmessage = (event) => onBlock(port, event);

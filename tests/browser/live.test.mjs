@@ -5,7 +5,7 @@
 // levels follow from those (AES17 full scale for dBFS, 20 µPa for dB SPL).
 import { test, before, after } from 'node:test';
 import assert from 'node:assert/strict';
-import { mkdtempSync, mkdirSync } from 'node:fs';
+import { mkdtempSync, mkdirSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, dirname } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -119,6 +119,32 @@ test('live readouts match the tone and the noise written into the capture', asyn
     }
     const rate = await page.textContent('[data-capture="capture.context_sample_rate_hz"]');
     assert.equal(rate, `${q.sample_rate_hz} Hz`);
+
+    // "Save as WAV": the last 2 s as 24-bit PCM, and the report beside it with its calibration.
+    await page.fill('#record-seconds', '2');
+    await page.dispatchEvent('#record-seconds', 'change'); // a new ring: listening starts again
+    await page.waitForFunction(() => Number(document.querySelector('#live-duration [data-value]')?.getAttribute('data-value')) >= 2.5,
+      null, { timeout: SETTLE_TIMEOUT_MS });
+    await page.selectOption('#record-format', 'pcm24');
+    const downloads = [];
+    page.on('download', (d) => downloads.push(d));
+    await page.click('#record-save');
+    for (let i = 0; i < 50 && downloads.length < 2; i += 1) await page.waitForTimeout(100);
+    assert.equal(downloads.length, 2, 'a WAV and its report');
+    const wavBytes = readFileSync(await downloads.find((d) => d.suggestedFilename().endsWith('.wav')).path());
+    // RIFF/WAVE, PCM (tag 1), mono, 24 bits, 2 s of samples (Multimedia Programming Interface spec).
+    assert.equal(wavBytes.toString('latin1', 8, 12), 'WAVE');
+    const fmt = wavBytes.indexOf('fmt ');
+    assert.equal(wavBytes.readUInt16LE(fmt + 8), 1);
+    assert.equal(wavBytes.readUInt16LE(fmt + 10), 1);
+    assert.equal(wavBytes.readUInt32LE(fmt + 12), q.sample_rate_hz);
+    assert.equal(wavBytes.readUInt16LE(fmt + 22), 24);
+    const data = wavBytes.indexOf('data');
+    assert.equal(wavBytes.readUInt32LE(data + 4), 2 * q.sample_rate_hz * 3);
+    const saved = JSON.parse(readFileSync(await downloads.find((d) => d.suggestedFilename().endsWith('.json')).path(), 'utf8'));
+    assert.equal(saved.calibration.scale_units_per_fs, 1);
+    assert.equal(saved.unit, 'FS');
+    assert.ok(saved.live.levels.length === 3);
   } finally {
     await context.close();
   }
