@@ -264,3 +264,18 @@ fn bad_blocks_and_settings_are_refused_with_their_values() {
     ));
     assert!(live.frame().is_none(), "no whole segment was accepted");
 }
+
+/// Before the ring is full, a recording holds everything captured so far.
+#[test]
+fn a_recording_before_the_ring_fills_holds_what_was_captured() {
+    let live_settings = LiveSettings {
+        record_s: 2.0,
+        ..LiveSettings::default()
+    };
+    let mut live = LiveSession::new(&capture(2, 1), &Settings::default(), &live_settings).unwrap();
+    let signal = listen(&mut live, 1.0, 0.5, 10);
+    let pushed = signal.len() / BLOCK_FRAMES * BLOCK_FRAMES;
+    let bytes = live.recording(2.0, WavEncoding::Float32).unwrap();
+    let source = open(Cursor::new(bytes), "rec.wav", &InputOptions::default()).unwrap();
+    assert_eq!(source.info().declared_frames, Some(pushed as u64));
+}

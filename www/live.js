@@ -86,6 +86,7 @@ export function initLive(deps) {
     recordSeconds: /** @type {HTMLInputElement} */ (byId('record-seconds')),
     recordFormat: /** @type {HTMLSelectElement} */ (byId('record-format')),
     recordSave: /** @type {HTMLButtonElement} */ (byId('record-save')),
+    recordStatus: byId('record-status'),
   };
 
   /** Everything that exists while listening. */
@@ -103,6 +104,8 @@ export function initLive(deps) {
     /** @type {number[]} */ frameTimes: [],
     requestId: 0,
     /** @type {Map<number, (msg: any) => void>} */ waiting: new Map(),
+    /** Seconds the recording ring holds, set when listening starts. */
+    recordS: 30,
   };
 
   const reason = unavailableReason(deps.workletUrl());
@@ -119,9 +122,9 @@ export function initLive(deps) {
     $.tauLabel.hidden = linear;
     restartSession();
   });
-  // These change what the worker keeps, so the session starts again (a recording in progress
-  // restarts too).
-  for (const input of [$.segments, $.tau, $.recent, $.channel, $.recordSeconds]) input.addEventListener('change', restartSession);
+  // These change what the worker averages, so the session starts again. The recording ring is
+  // sized when listening starts (so editing "Last (s)" never discards what was captured).
+  for (const input of [$.segments, $.tau, $.recent, $.channel]) input.addEventListener('change', restartSession);
   $.restart.addEventListener('click', () => session.worker?.postMessage({ type: MSG.LIVE_RESTART }));
   $.freeze.addEventListener('click', () => {
     const density = session.frame?.arrays['psd.density'];
@@ -140,8 +143,14 @@ export function initLive(deps) {
     if (session.stream) stop(); else start().catch((err) => fail(err));
   });
   $.calApplyChain.addEventListener('click', applyChain);
-  $.calFromTone.addEventListener('click', () => calibrateFromTone().catch((err) => fail(err)));
-  $.recordSave.addEventListener('click', () => saveRecording().catch((err) => fail(err)));
+  // A request the worker cannot answer (no tone yet, nothing recorded yet) is said beside its
+  // button; listening goes on.
+  $.calFromTone.addEventListener('click', () => calibrateFromTone().catch((err) => {
+    $.calStatus.textContent = `Not calibrated: ${err instanceof Error ? err.message : err}`;
+  }));
+  $.recordSave.addEventListener('click', () => saveRecording().catch((err) => {
+    $.recordStatus.textContent = `Not saved: ${err instanceof Error ? err.message : err}`;
+  }));
 
   /** @param {string | URL | null} workletUrl */
   function unavailableReason(workletUrl) {
@@ -202,6 +211,7 @@ export function initLive(deps) {
     node.connect(mute).connect(context.destination);
     session.node = node;
     session.source = { sample_rate_hz: context.sampleRate, channels, channel: 0 };
+    session.recordS = Math.min(300, Math.max(1, Number($.recordSeconds.value) || 30));
     startWorker();
     $.listen.textContent = 'Stop listening';
     $.status.hidden = false;
@@ -209,27 +219,32 @@ export function initLive(deps) {
     $.recordSave.disabled = false;
   }
 
-  /** A fresh live worker and a fresh block channel from the worklet to it. */
+  /** The live worker and the block channel from the worklet to it, once per listening. */
   function startWorker() {
     if (!session.node || !session.source) return;
-    session.worker?.terminate();
     const worker = deps.createWorker();
     worker.postMessage({ type: MSG.INIT, module: deps.module() });
     worker.onmessage = onWorkerMessage;
     const channel = new MessageChannel();
     session.node.port.postMessage({ type: 'connect', port: channel.port1 }, [channel.port1]);
-    worker.postMessage({
-      type: MSG.LIVE_START,
-      port: channel.port2,
-      source: { ...session.source, channel: Number($.channel.value) || 0 },
-      settings: deps.readSettings(),
-      live: liveSettings(),
-    }, [channel.port2]);
+    worker.postMessage({ type: MSG.LIVE_START, port: channel.port2, ...sessionConfig() }, [channel.port2]);
     session.worker = worker;
   }
 
+  function sessionConfig() {
+    return {
+      source: { ...session.source, channel: Number($.channel.value) || 0 },
+      settings: deps.readSettings(),
+      live: liveSettings(),
+    };
+  }
+
+  /** New settings: the same worker builds a new session; blocks keep flowing to it. */
   function restartSession() {
-    if (session.stream) startWorker();
+    if (session.stream && session.worker) {
+      session.frame = null;
+      session.worker.postMessage({ type: MSG.LIVE_START, ...sessionConfig() });
+    }
   }
 
   function liveSettings() {
@@ -239,8 +254,9 @@ export function initLive(deps) {
     return {
       averaging,
       recent_s: Number($.recent.value) || 10,
-      // The ring keeps what "Save as WAV" may ask for (8 bytes a sample: 30 s at 48 kHz is 11.5 MB).
-      record_s: Math.min(300, Math.max(1, Number($.recordSeconds.value) || 30)),
+      // The ring keeps what "Save as WAV" may ask for (8 bytes a sample: 30 s at 48 kHz is
+      // 11.5 MB), fixed when listening starts.
+      record_s: session.recordS,
     };
   }
 
@@ -545,6 +561,7 @@ export function initLive(deps) {
 
   async function saveRecording() {
     const reply = await ask({ type: MSG.LIVE_RECORD, seconds: Number($.recordSeconds.value) || 30, format: $.recordFormat.value });
+    $.recordStatus.textContent = '';
     const stamp = new Date().toISOString().replace(/[:.]/g, '-').slice(0, 19);
     download(new Blob([reply.wav], { type: 'audio/wav' }), `listening-${stamp}.wav`);
     download(new Blob([reply.report], { type: 'application/json' }), `listening-${stamp}-report.json`);

@@ -16,7 +16,8 @@
  *
  * Listening live uses a second worker of the same code:
  * page → worker: { type: 'live-start', port, source, settings, live }
- *                  (port: the MessagePort the capture worklet sends blocks to; source:
+ *                  (port: the MessagePort the capture worklet sends blocks to, only in the
+ *                  first; later ones replace the session and keep the port; source:
  *                  { sample_rate_hz, channels, channel }; live: the live settings)
  *                { type: 'live-tone', id, frequency_hz, reference_rms }
  *                { type: 'live-record', id, seconds, format }     ('f32' or 's24')
