@@ -14,8 +14,8 @@ use crate::report::{
     first_crossing, AcfReport, Checks, Parseval, PsdReport, Report, WienerKhinchin, SCHEMA,
 };
 use crate::spectral::confidence::ConfidenceFactors;
-use crate::spectral::inverse::acf_from_density;
-use crate::spectral::{Average, Detrend, Welch, WelchPlan, WelchSettings};
+use crate::spectral::inverse::InversePlan;
+use crate::spectral::{Average, Detrend, Welch, WelchPlan, WelchResult, WelchSettings};
 use crate::units::{Calibration, DerivedUnits};
 
 /// Samples handled per internal step (and per read from a source).
@@ -65,6 +65,9 @@ pub struct Analyzer {
     moments: MomentsAccumulator,
     welch: Welch,
     acf: Acf,
+    /// The Wiener–Khinchin check's inverse FFT and window correlation, prepared once (a live
+    /// view asks for a report many times a second).
+    wiener_khinchin: Option<InversePlan>,
     scaled: Vec<f64>,
     samples: u64,
 }
@@ -108,6 +111,10 @@ impl Analyzer {
             source: source.clone(),
             scale,
             moments: MomentsAccumulator::new(clip_levels),
+            wiener_khinchin: InversePlan::new(
+                welch_plan.window(),
+                (settings.welch.segment_len / 4).min(max_lag_len),
+            ),
             welch: Welch::new(welch_plan),
             acf: Acf::new(AcfPlan::new(max_lag_len)?),
             scaled: Vec::with_capacity(BLOCK_LEN),
@@ -151,14 +158,36 @@ impl Analyzer {
     /// # Errors
     /// [`AnalysisError::TooShort`] before one whole PSD segment.
     pub fn report(&self, source_warnings: &[String]) -> Result<Report, AnalysisError> {
-        let segment_len = self.settings.welch.segment_len;
-        let too_short = || AnalysisError::TooShort {
+        let welch = self
+            .welch
+            .finish(self.source.sample_rate_hz)
+            .ok_or_else(|| self.too_short())?;
+        self.report_with(welch, source_warnings)
+    }
+
+    fn too_short(&self) -> AnalysisError {
+        AnalysisError::TooShort {
             samples: self.samples,
-            segment_len,
+            segment_len: self.settings.welch.segment_len,
             suggestion: suggest_segment(self.samples),
-        };
+        }
+    }
+
+    /// [`Analyzer::report`] with the PSD given rather than this analyzer's own Welch average:
+    /// a live view's recent average, on the same plan (window, segment, overlap), so that its
+    /// interval, checks and units come out of the same code. Moments and the autocorrelation
+    /// are this analyzer's. `welch.density` must have the plan's bins.
+    ///
+    /// # Errors
+    /// [`AnalysisError::TooShort`] before one whole PSD segment.
+    pub fn report_with(
+        &self,
+        welch: WelchResult,
+        source_warnings: &[String],
+    ) -> Result<Report, AnalysisError> {
+        let segment_len = self.settings.welch.segment_len;
+        let too_short = || self.too_short();
         let fs = self.source.sample_rate_hz;
-        let welch = self.welch.finish(fs).ok_or_else(too_short)?;
         let moments = self.moments.finish().ok_or_else(too_short)?;
         let acf = self
             .acf
@@ -214,8 +243,13 @@ impl Analyzer {
         } else {
             &acf.autocorrelation
         };
-        let wk_lags = (segment_len / 4).min(direct.len().saturating_sub(1));
-        let from_psd = acf_from_density(&welch.density, self.welch.plan().window(), fs, wk_lags);
+        // Lags 0..=min(L/4, max lag, N − 1): the plan covers the first two bounds.
+        let mut from_psd = self
+            .wiener_khinchin
+            .as_ref()
+            .map(|plan| plan.acf_from_density(&welch.density, fs))
+            .unwrap_or_default();
+        from_psd.truncate(direct.len());
         let r0 = direct.first().copied().unwrap_or(0.0);
         let max_deviation = if r0 > 0.0 {
             from_psd

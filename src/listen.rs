@@ -19,10 +19,9 @@ use crate::analysis::{Analyzer, Settings};
 use crate::error::{AnalysisError, Error, SettingsError};
 use crate::io::{write_wav_parts, SourceInfo, WavEncoding, WavSpec};
 use crate::live::{LiveAveraging, LiveSnapshot, LiveSpectrum};
-use crate::report::{PsdReport, Report};
+use crate::report::Report;
 use crate::ring::SampleRing;
-use crate::spectral::confidence::ConfidenceFactors;
-use crate::spectral::WelchPlan;
+use crate::spectral::{WelchPlan, WelchResult};
 use crate::tone::{find_tone, Tone, ToneSettings};
 
 /// The weightings whose levels a session tracks, in the order of [`LiveFrame::levels`].
@@ -147,7 +146,6 @@ pub struct CalibratorReading {
 #[derive(Debug)]
 pub struct LiveSession {
     source: SourceInfo,
-    settings: Settings,
     live: LiveSettings,
     scale: f64,
     analyzer: Analyzer,
@@ -217,7 +215,6 @@ impl LiveSession {
             })?;
         Ok(Self {
             source: source.clone(),
-            settings: settings.clone(),
             live: live.clone(),
             scale: settings.calibration.scale_units_per_fs,
             analyzer,
@@ -312,8 +309,24 @@ impl LiveSession {
     /// average, and the live extras. `None` before one whole segment.
     pub fn peek(&self) -> Option<(Report, LiveFrame)> {
         let snapshot = self.spectrum.snapshot()?;
-        let mut report = self.analyzer.report(&[]).ok()?;
-        report.psd = self.live_psd(&snapshot, &report.psd);
+        let bins = snapshot.density.len();
+        let live_psd = WelchResult {
+            frequency_hz: (0..bins).map(|k| snapshot.frequency_hz(k)).collect(),
+            power_spectrum: snapshot
+                .density
+                .iter()
+                .map(|p| p * snapshot.enbw_hz)
+                .collect(),
+            density: snapshot.density.clone(),
+            bin_width_hz: snapshot.bin_width_hz,
+            enbw_bins: snapshot.enbw_bins,
+            enbw_hz: snapshot.enbw_hz,
+            segments: snapshot.segments_averaged.try_into().unwrap_or(usize::MAX),
+            overlap_len: snapshot.overlap_len,
+            dof: snapshot.dof,
+        };
+        let mut report = self.analyzer.report_with(live_psd, &[]).ok()?;
+        report.psd.unused_samples = 0;
         report.warnings.insert(
             0,
             format!(
@@ -363,46 +376,6 @@ impl LiveSession {
             peak_density: snapshot.peak_density,
         };
         Some((report, frame))
-    }
-
-    /// The PSD section of a frame's report: the live average with its own segments, degrees
-    /// of freedom and chi-square interval (DC and Nyquist with half the degrees of freedom).
-    fn live_psd(&self, snapshot: &LiveSnapshot, session: &PsdReport) -> PsdReport {
-        let level = self.settings.confidence_level;
-        let bins = snapshot.density.len();
-        let interior = ConfidenceFactors::new(snapshot.dof, level);
-        let edge = ConfidenceFactors::new(snapshot.dof / 2.0, level);
-        let has_nyquist = snapshot.segment_len.is_multiple_of(2);
-        let (ci_lower, ci_upper) = snapshot
-            .density
-            .iter()
-            .enumerate()
-            .map(|(bin, &p)| {
-                let f = if bin == 0 || (has_nyquist && bin + 1 == bins) {
-                    edge
-                } else {
-                    interior
-                };
-                f.map_or((0.0, f64::MAX), |f| (p * f.lower, p * f.upper))
-            })
-            .unzip();
-        PsdReport {
-            frequency_hz: (0..bins).map(|k| snapshot.frequency_hz(k)).collect(),
-            power_spectrum: snapshot
-                .density
-                .iter()
-                .map(|p| p * snapshot.enbw_hz)
-                .collect(),
-            density: snapshot.density.clone(),
-            segments: snapshot.segments_averaged.try_into().unwrap_or(usize::MAX),
-            dof: snapshot.dof,
-            ci_lower,
-            ci_upper,
-            ci_factor_lower: interior.map_or(0.0, |f| f.lower),
-            ci_factor_upper: interior.map_or(f64::MAX, |f| f.upper),
-            unused_samples: 0,
-            ..session.clone()
-        }
     }
 
     fn strongest_tone(
