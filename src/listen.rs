@@ -551,13 +551,7 @@ fn noise_floor(snapshot: &LiveSnapshot, dof: f64) -> Option<NoiseFloor> {
     if values.is_empty() {
         return None;
     }
-    values.sort_by(f64::total_cmp);
-    let mid = values.len() / 2;
-    let median = if values.len() % 2 == 1 {
-        values[mid]
-    } else {
-        0.5 * (values[mid - 1] + values[mid])
-    };
+    let median = crate::numeric::median(&mut values);
     let bias = crate::spectral::confidence::chi_square_median_over_dof(dof).unwrap_or(1.0);
     Some(NoiseFloor {
         density: median / bias,

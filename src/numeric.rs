@@ -14,3 +14,18 @@ pub(crate) fn sum_in_lanes(x: &[f64]) -> f64 {
     }
     lanes.iter().sum::<f64>() + tail
 }
+
+/// Median of a non-empty slice (mean of the two middle values for an even count), reordering
+/// it. Used by median Welch averaging, tone floors and live noise floors.
+pub(crate) fn median(values: &mut [f64]) -> f64 {
+    let n = values.len();
+    let mid = n / 2;
+    let (lower_part, upper_mid, _) = values.select_nth_unstable_by(mid, f64::total_cmp);
+    let upper = *upper_mid;
+    if n % 2 == 1 {
+        upper
+    } else {
+        let lower = lower_part.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+        0.5 * (lower + upper)
+    }
+}

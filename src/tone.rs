@@ -31,8 +31,8 @@
 //! - G. Heinzel, A. Rüdiger, R. Schilling, "Spectrum and spectral density estimation by the
 //!   Discrete Fourier transform (DFT)", Max-Planck-Institut für Gravitationsphysik, 2002.
 
+use crate::numeric::median;
 use serde::{Deserialize, Serialize};
-use statrs::distribution::{ChiSquared, ContinuousCDF};
 
 use crate::report::PsdReport;
 
@@ -344,33 +344,11 @@ pub fn find_tone_in(psd: &PsdReport, settings: &ToneSettings) -> Result<Tone, To
 }
 
 /// Median of χ²_ν/ν: what the median of many bins of an averaged density with ν degrees of
-/// freedom is, as a fraction of their mean (ln 2 for ν = 2; → 1 as ν grows).
+/// freedom is, as a fraction of their mean (ln 2 for ν = 2; → 1 as ν grows); 1 when ν is unusable.
 fn chi_square_median_ratio(dof: f64) -> f64 {
-    match ChiSquared::new(dof) {
-        Ok(chi) => {
-            let ratio = chi.inverse_cdf(0.5) / dof;
-            if ratio.is_finite() && ratio > 0.0 {
-                ratio
-            } else {
-                1.0
-            }
-        }
-        Err(_) => 1.0,
-    }
-}
-
-/// Median of a non-empty slice (mean of the two middle values for an even count), reordering it.
-fn median(values: &mut [f64]) -> f64 {
-    let n = values.len();
-    let mid = n / 2;
-    let (lower_part, upper_mid, _) = values.select_nth_unstable_by(mid, f64::total_cmp);
-    let upper = *upper_mid;
-    if n % 2 == 1 {
-        upper
-    } else {
-        let lower = lower_part.iter().copied().fold(f64::NEG_INFINITY, f64::max);
-        0.5 * (lower + upper)
-    }
+    crate::spectral::confidence::chi_square_median_over_dof(dof)
+        .filter(|r| r.is_finite())
+        .unwrap_or(1.0)
 }
 
 #[cfg(test)]

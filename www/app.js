@@ -6,60 +6,55 @@ import init, { ReportView } from './pkg/noisesonde.js';
 import { MSG } from './protocol.js';
 import { wasmBytes, createWorker, demoFile, captureWorkletUrl } from './platform.js';
 import { initLive } from './live.js';
+import { byId, download } from './dom.js';
 
 /** The demo recording's calibration, as its README states: 1.0 full scale = 2 V. */
 const DEMO = { scale: '2', unit: 'V' };
 
-/** @param {string} id */
-function el(id) {
-  const node = document.getElementById(id);
-  if (!node) throw new Error(`page is missing #${id}`);
-  return node;
-}
 const $ = {
-  fileInput: /** @type {HTMLInputElement} */ (el('file-input')),
-  dropZone: el('drop-zone'),
-  sourceLine: el('source-line'),
-  errorBox: el('error-box'),
-  progress: el('progress'),
-  progressBar: /** @type {HTMLProgressElement} */ (el('progress-bar')),
-  progressText: el('progress-text'),
-  cancel: el('cancel-button'),
-  rawFormat: /** @type {HTMLSelectElement} */ (el('raw-format')),
-  rawChannels: /** @type {HTMLInputElement} */ (el('raw-channels')),
-  sampleRate: /** @type {HTMLInputElement} */ (el('sample-rate')),
-  channel: /** @type {HTMLSelectElement} */ (el('channel')),
-  channelLabel: el('channel-label'),
-  layoutForm: /** @type {HTMLDetailsElement} */ (el('layout-form')),
-  layoutApply: el('layout-apply'),
-  form: /** @type {HTMLFormElement} */ (el('settings-form')),
-  window: /** @type {HTMLSelectElement} */ (el('window')),
-  kaiserLabel: el('kaiser-beta-label'),
-  kaiserBeta: /** @type {HTMLInputElement} */ (el('kaiser-beta')),
-  segment: /** @type {HTMLSelectElement} */ (el('segment')),
-  resolution: /** @type {HTMLOutputElement} */ (el('resolution')),
-  overlap: /** @type {HTMLInputElement} */ (el('overlap')),
-  detrend: /** @type {HTMLSelectElement} */ (el('detrend')),
-  average: /** @type {HTMLSelectElement} */ (el('average')),
-  maxLag: /** @type {HTMLInputElement} */ (el('max-lag')),
-  confidence: /** @type {HTMLInputElement} */ (el('confidence')),
-  scale: /** @type {HTMLInputElement} */ (el('scale')),
-  unit: /** @type {HTMLInputElement} */ (el('unit')),
-  share: /** @type {HTMLAnchorElement} */ (el('share-link')),
-  results: el('results'),
-  runLine: el('run-line'),
-  warnings: el('warnings'),
-  psdMode: /** @type {HTMLSelectElement} */ (el('psd-mode')),
-  showCi: /** @type {HTMLInputElement} */ (el('show-ci')),
-  psdCanvas: /** @type {HTMLCanvasElement} */ (el('psd-canvas')),
-  acfMode: /** @type {HTMLSelectElement} */ (el('acf-mode')),
-  acfCanvas: /** @type {HTMLCanvasElement} */ (el('acf-canvas')),
-  cursorA: el('cursor-a'),
-  cursorAValue: el('cursor-a-value'),
-  cursorB: el('cursor-b'),
-  cursorBValue: el('cursor-b-value'),
-  bandRms: el('band-rms'),
-  quantities: /** @type {HTMLTableElement} */ (el('quantities')),
+  fileInput: /** @type {HTMLInputElement} */ (byId('file-input')),
+  dropZone: byId('drop-zone'),
+  sourceLine: byId('source-line'),
+  errorBox: byId('error-box'),
+  progress: byId('progress'),
+  progressBar: /** @type {HTMLProgressElement} */ (byId('progress-bar')),
+  progressText: byId('progress-text'),
+  cancel: byId('cancel-button'),
+  rawFormat: /** @type {HTMLSelectElement} */ (byId('raw-format')),
+  rawChannels: /** @type {HTMLInputElement} */ (byId('raw-channels')),
+  sampleRate: /** @type {HTMLInputElement} */ (byId('sample-rate')),
+  channel: /** @type {HTMLSelectElement} */ (byId('channel')),
+  channelLabel: byId('channel-label'),
+  layoutForm: /** @type {HTMLDetailsElement} */ (byId('layout-form')),
+  layoutApply: byId('layout-apply'),
+  form: /** @type {HTMLFormElement} */ (byId('settings-form')),
+  window: /** @type {HTMLSelectElement} */ (byId('window')),
+  kaiserLabel: byId('kaiser-beta-label'),
+  kaiserBeta: /** @type {HTMLInputElement} */ (byId('kaiser-beta')),
+  segment: /** @type {HTMLSelectElement} */ (byId('segment')),
+  resolution: /** @type {HTMLOutputElement} */ (byId('resolution')),
+  overlap: /** @type {HTMLInputElement} */ (byId('overlap')),
+  detrend: /** @type {HTMLSelectElement} */ (byId('detrend')),
+  average: /** @type {HTMLSelectElement} */ (byId('average')),
+  maxLag: /** @type {HTMLInputElement} */ (byId('max-lag')),
+  confidence: /** @type {HTMLInputElement} */ (byId('confidence')),
+  scale: /** @type {HTMLInputElement} */ (byId('scale')),
+  unit: /** @type {HTMLInputElement} */ (byId('unit')),
+  share: /** @type {HTMLAnchorElement} */ (byId('share-link')),
+  results: byId('results'),
+  runLine: byId('run-line'),
+  warnings: byId('warnings'),
+  psdMode: /** @type {HTMLSelectElement} */ (byId('psd-mode')),
+  showCi: /** @type {HTMLInputElement} */ (byId('show-ci')),
+  psdCanvas: /** @type {HTMLCanvasElement} */ (byId('psd-canvas')),
+  acfMode: /** @type {HTMLSelectElement} */ (byId('acf-mode')),
+  acfCanvas: /** @type {HTMLCanvasElement} */ (byId('acf-canvas')),
+  cursorA: byId('cursor-a'),
+  cursorAValue: byId('cursor-a-value'),
+  cursorB: byId('cursor-b'),
+  cursorBValue: byId('cursor-b-value'),
+  bandRms: byId('band-rms'),
+  quantities: /** @type {HTMLTableElement} */ (byId('quantities')),
 };
 
 /** What the page shows now. The previous result stays until a new one replaces it. */
@@ -481,18 +476,6 @@ function hideError() {
   $.errorBox.textContent = '';
 }
 
-/** @param {Blob} blob @param {string} name */
-function download(blob, name) {
-  const url = URL.createObjectURL(blob);
-  const a = document.createElement('a');
-  a.href = url;
-  a.download = name;
-  document.body.append(a);
-  a.click();
-  a.remove();
-  setTimeout(() => URL.revokeObjectURL(url), 10_000);
-}
-
 function baseName() {
   return (state.report?.source.name ?? 'recording').replace(/\.[^.]*$/, '');
 }
@@ -503,17 +486,17 @@ function exportPng(canvas, suffix) {
 }
 
 function wireExports() {
-  el('export-json').addEventListener('click', () => {
+  byId('export-json').addEventListener('click', () => {
     if (state.view) download(new Blob([state.view.report_json()], { type: 'application/json' }), `${baseName()}-report.json`);
   });
-  el('export-psd-csv').addEventListener('click', () => {
+  byId('export-psd-csv').addEventListener('click', () => {
     if (state.view) download(new Blob([state.view.psd_csv()], { type: 'text/csv' }), `${baseName()}-psd.csv`);
   });
-  el('export-acf-csv').addEventListener('click', () => {
+  byId('export-acf-csv').addEventListener('click', () => {
     if (state.view) download(new Blob([state.view.acf_csv()], { type: 'text/csv' }), `${baseName()}-acf.csv`);
   });
-  el('export-psd-png').addEventListener('click', () => exportPng($.psdCanvas, 'psd'));
-  el('export-acf-png').addEventListener('click', () => exportPng($.acfCanvas, 'acf'));
+  byId('export-psd-png').addEventListener('click', () => exportPng($.psdCanvas, 'psd'));
+  byId('export-acf-png').addEventListener('click', () => exportPng($.acfCanvas, 'acf'));
 }
 
 // ---------------------------------------------------------------- start

@@ -3,6 +3,7 @@
 // shows what the browser actually granted, starts the capture worklet and a live worker, and
 // draws the frames the worker sends. No signal processing here.
 import { MSG } from './protocol.js';
+import { byId, download } from './dom.js';
 
 /** Processing the browser may apply to a capture; all asked off. */
 const PROCESSING = /** @type {const} */ (['echoCancellation', 'noiseSuppression', 'autoGainControl']);
@@ -25,13 +26,6 @@ const P0_PA = 20e-6;
  * @property {{ scale: HTMLInputElement, unit: HTMLInputElement }} calibrationFields
  * @property {() => void} ownInput forget the demo recording's calibration (not the user's own)
  */
-
-/** @param {string} id */
-function byId(id) {
-  const node = document.getElementById(id);
-  if (!node) throw new Error(`page is missing #${id}`);
-  return node;
-}
 
 /** @param {LiveDeps} deps */
 export function initLive(deps) {
@@ -565,18 +559,6 @@ export function initLive(deps) {
     const stamp = new Date().toISOString().replace(/[:.]/g, '-').slice(0, 19);
     download(new Blob([reply.wav], { type: 'audio/wav' }), `listening-${stamp}.wav`);
     download(new Blob([reply.report], { type: 'application/json' }), `listening-${stamp}-report.json`);
-  }
-
-  /** @param {Blob} blob @param {string} name */
-  function download(blob, name) {
-    const url = URL.createObjectURL(blob);
-    const a = document.createElement('a');
-    a.href = url;
-    a.download = name;
-    document.body.append(a);
-    a.click();
-    a.remove();
-    setTimeout(() => URL.revokeObjectURL(url), 10_000);
   }
 
   return { restart: restartSession };

@@ -34,7 +34,7 @@ use crate::error::{AnalysisError, SettingsError};
 use crate::window::{WindowFigures, WindowKind};
 
 use super::confidence::welch_dof;
-use crate::numeric::sum_in_lanes;
+use crate::numeric::{median, sum_in_lanes};
 
 /// Default segment length in samples.
 pub const DEFAULT_SEGMENT_LEN: usize = 4096;
@@ -594,21 +594,4 @@ pub fn median_bias(segments: usize) -> f64 {
             1.0 / (two_i + 1.0) - 1.0 / two_i
         })
         .sum::<f64>()
-}
-
-/// Median of a non-empty slice (mean of the two middle values for an even count), reordering it.
-fn median(values: &mut [f64]) -> f64 {
-    let n = values.len();
-    let mid = n / 2;
-    let (_, upper_mid, _) = values.select_nth_unstable_by(mid, f64::total_cmp);
-    let upper = *upper_mid;
-    if n % 2 == 1 {
-        upper
-    } else {
-        let lower = values[..mid]
-            .iter()
-            .cloned()
-            .fold(f64::NEG_INFINITY, f64::max);
-        0.5 * (lower + upper)
-    }
 }

@@ -551,9 +551,10 @@ fn demo_analysis(ctx: &Ctx) -> StepResult {
 /// Where the assembled page goes (served by `serve`, copied by `dist`, tested by `test`).
 const SITE_DIR: &str = "target/site";
 /// The page's own files, copied as they are.
-const PAGE_FILES: [&str; 8] = [
+const PAGE_FILES: [&str; 9] = [
     "index.html",
     "app.js",
+    "dom.js",
     "live.js",
     "capture-worklet.js",
     "worker.js",
@@ -815,6 +816,7 @@ fn dist_single(ctx: &Ctx) -> Result<PathBuf, Failure> {
     let www = ctx.root.join("www");
     let protocol = without_module_syntax(&read_text(&www.join("protocol.js"))?);
     let worker = without_module_syntax(&read_text(&www.join("worker.js"))?);
+    let dom = without_module_syntax(&read_text(&www.join("dom.js"))?);
     let live = without_module_syntax(&read_text(&www.join("live.js"))?);
     let app = without_module_syntax(&read_text(&www.join("app.js"))?);
     let style = read_text(&www.join("style.css"))?;
@@ -854,7 +856,7 @@ function captureWorkletUrl() {{ return null; }}
         demo_name = js_string(&demo_name),
     );
     let script = format!(
-        "{glue}\n{protocol}\n{platform}\nconst init = wasm_bindgen;\nconst {{ ReportView }} = wasm_bindgen;\n{live}\n{app}\n"
+        "{glue}\n{protocol}\n{platform}\nconst init = wasm_bindgen;\nconst {{ ReportView }} = wasm_bindgen;\n{dom}\n{live}\n{app}\n"
     )
     .replace("</script", "<\\/script");
 
