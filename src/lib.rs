@@ -20,6 +20,7 @@ mod numeric;
 pub mod plot;
 pub mod report;
 pub mod spectral;
+pub mod stationarity;
 pub mod units;
 #[cfg(all(target_arch = "wasm32", feature = "web"))]
 pub mod web;
