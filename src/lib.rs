@@ -12,6 +12,7 @@ pub mod acf;
 pub mod acoustics;
 pub mod analysis;
 pub mod bands;
+pub mod ensemble_analysis;
 pub mod error;
 pub mod export;
 pub mod io;
@@ -27,5 +28,6 @@ pub mod web;
 pub mod window;
 
 pub use analysis::{analyze, Analyzer, Settings};
+pub use ensemble_analysis::{analyze_ensemble, EnsembleAnalyzer, EnsembleReport, EnsembleSettings};
 pub use error::{AnalysisError, Error, SettingsError};
 pub use report::Report;

@@ -27,6 +27,7 @@
 //! - M. S. Bartlett, J. R. Stat. Soc. Suppl. 8(1), 1946 (variance of autocorrelation estimates).
 
 pub mod arrangements;
+pub mod ensemble;
 pub mod lag_shape;
 pub mod runs;
 pub mod segments;
