@@ -16,6 +16,8 @@ use crate::report::{
 use crate::spectral::confidence::ConfidenceFactors;
 use crate::spectral::inverse::acf_from_density;
 use crate::spectral::{Average, Detrend, Welch, WelchPlan, WelchSettings};
+use crate::stationarity::segments::SegmentAccumulator;
+use crate::stationarity::{assess, StationaritySettings};
 use crate::units::{Calibration, DerivedUnits};
 
 /// Samples handled per internal step (and per read from a source).
@@ -42,6 +44,8 @@ pub struct Settings {
     pub calibration: Calibration,
     /// Confidence level of the PSD interval.
     pub confidence_level: f64,
+    /// Segments, significance and lags of the stationarity tests.
+    pub stationarity: StationaritySettings,
 }
 
 impl Default for Settings {
@@ -52,6 +56,7 @@ impl Default for Settings {
             acf_estimator: AcfEstimator::default(),
             calibration: Calibration::default(),
             confidence_level: DEFAULT_CONFIDENCE_LEVEL,
+            stationarity: StationaritySettings::default(),
         }
     }
 }
@@ -65,6 +70,7 @@ pub struct Analyzer {
     moments: MomentsAccumulator,
     welch: Welch,
     acf: Acf,
+    segments: SegmentAccumulator,
     scaled: Vec<f64>,
     samples: u64,
 }
@@ -85,6 +91,7 @@ impl Analyzer {
             return Err(SettingsError::ConfidenceLevel { level });
         }
         let welch_plan = WelchPlan::new(&settings.welch)?;
+        let segment_plan = settings.stationarity.plan()?;
         let max_lag_len = match settings.max_lag_s {
             None => settings.welch.segment_len,
             Some(max_lag_s) => {
@@ -110,6 +117,7 @@ impl Analyzer {
             moments: MomentsAccumulator::new(clip_levels),
             welch: Welch::new(welch_plan),
             acf: Acf::new(AcfPlan::new(max_lag_len)?),
+            segments: SegmentAccumulator::new(segment_plan),
             scaled: Vec::with_capacity(BLOCK_LEN),
             samples: 0,
         })
@@ -140,6 +148,7 @@ impl Analyzer {
             self.moments.push(&self.scaled);
             self.welch.push(&self.scaled)?;
             self.acf.push(&self.scaled);
+            self.segments.push(&self.scaled);
             self.samples += chunk.len() as u64;
         }
         Ok(())
@@ -158,7 +167,10 @@ impl Analyzer {
             suggestion: suggest_segment(self.samples),
         };
         let fs = self.source.sample_rate_hz;
-        let welch = self.welch.finish(fs).ok_or_else(too_short)?;
+        let (welch, spectrogram) = self
+            .welch
+            .finish_with_spectrogram(fs)
+            .ok_or_else(too_short)?;
         let moments = self.moments.finish().ok_or_else(too_short)?;
         let acf = self
             .acf
@@ -270,6 +282,32 @@ impl Analyzer {
             ));
         }
 
+        let stationarity = match self.segments.finish().and_then(|summary| {
+            assess(
+                &summary,
+                &self.settings.stationarity,
+                fs,
+                Some(&acf.coefficient),
+                Some(spectrogram),
+            )
+        }) {
+            Some((report, found)) => {
+                warnings.extend(found);
+                Some(report)
+            }
+            None => {
+                let plan = self.segments.plan();
+                warnings.push(format!(
+                    "no stationarity tests: they need {} segments of at least {} samples ({} samples), the record has {}",
+                    plan.min_segments,
+                    plan.base_len,
+                    plan.min_segments as u64 * plan.base_len,
+                    self.samples
+                ));
+                None
+            }
+        };
+
         let zero_crossing_s = first_crossing(&acf.coefficient, 0.0).map(|k| k / fs);
         let one_over_e_s = first_crossing(&acf.coefficient, (-1.0f64).exp()).map(|k| k / fs);
         let segments_used = self.welch.plan().segments_in(self.samples);
@@ -327,6 +365,7 @@ impl Analyzer {
                 parseval,
                 wiener_khinchin,
             },
+            stationarity,
             warnings,
         })
     }
