@@ -36,3 +36,12 @@ def noisesonde(binary):
         proc = subprocess.run([binary, "analyze", *map(str, args)], capture_output=True, text=True, timeout=300)
         return Run(proc)
     return run
+
+
+@pytest.fixture
+def noisesonde_command(binary):
+    """Runs any subcommand: noisesonde_command("ensemble", a, b, "--json", "-")."""
+    def run(*args):
+        proc = subprocess.run([binary, *map(str, args)], capture_output=True, text=True, timeout=300)
+        return Run(proc)
+    return run
