@@ -159,8 +159,8 @@ impl RunsAboutMedian {
 }
 
 /// Runs the test at significance `alpha`; `None` for an empty sequence. A sequence with no
-/// value on one side of its median (e.g. constant) has one run and is accepted: there is
-/// nothing to order.
+/// value on one side of its median has one run (none at all when it is constant) and is
+/// accepted: there is nothing to order.
 ///
 /// ```
 /// use noisesonde::stationarity::runs::test_runs;
