@@ -3,8 +3,10 @@
 //! One pipeline serves every front end: a [`io::SampleSource`] streams samples of one channel
 //! into an [`analysis::Analyzer`] built from [`analysis::Settings`], which produces a
 //! [`report::Report`]: moments with their meaning (DC level, total and AC power), a Welch PSD
-//! with its resolution bandwidth and confidence interval, the autocorrelation, and checks that
-//! tie them together (Parseval, Wiener–Khinchin).
+//! with its resolution bandwidth and confidence interval, the autocorrelation, checks that
+//! tie them together (Parseval, Wiener–Khinchin), and stationarity tests that say whether the
+//! record's time averages stand for the process ([`stationarity`]). Several records of one
+//! process go through [`ensemble_analysis`] to test ergodicity.
 //!
 //! The core does no file-system, DOM or clock access; SI units inside, decibels only at the edge.
 
