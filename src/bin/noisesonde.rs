@@ -23,7 +23,7 @@ use noisesonde::stationarity::{
 };
 use noisesonde::units::Calibration;
 use noisesonde::window::WindowKind;
-use noisesonde::Report;
+use noisesonde::{AnalysisError, Report, SettingsError};
 
 /// Noise measurement from a recording: calibrated PSD, autocorrelation and lab quantities.
 #[derive(Parser)]
@@ -306,7 +306,20 @@ fn run_ensemble(args: &EnsembleArgs) -> ExitCode {
     let report = match analyze_ensemble(&mut refs, &settings) {
         Ok(report) => report,
         Err(e) => {
-            eprintln!("error: {e}");
+            // Errors about one record name it by its 0-based index: give the file too.
+            let record = match &e {
+                noisesonde::Error::Analysis(AnalysisError::NonFiniteSampleIn {
+                    record, ..
+                })
+                | noisesonde::Error::Settings(SettingsError::SampleRateMismatch {
+                    record, ..
+                }) => args.files.get(*record),
+                _ => None,
+            };
+            match record {
+                Some(path) => eprintln!("error: {}: {e}", path.display()),
+                None => eprintln!("error: {e}"),
+            }
             return ExitCode::from(2);
         }
     };

@@ -231,3 +231,16 @@ def test_ensemble_needs_two_records_and_equal_rates(tmp_path, noisesonde_command
     assert one.code == 2 and "cannot be tested from one record" in one.stderr
     mixed = noisesonde_command("ensemble", a, b)
     assert mixed.code == 2 and "16000 Hz" in mixed.stderr and "8000 Hz" in mixed.stderr
+    assert "b.wav" in mixed.stderr
+
+
+def test_ensemble_names_the_file_with_a_bad_sample(tmp_path, noisesonde_command):
+    rng = np.random.default_rng(9)
+    good, bad = tmp_path / "good.wav", tmp_path / "bad.wav"
+    wavfile.write(good, FS, rng.standard_normal(20000))
+    x = rng.standard_normal(20000)
+    x[1234] = np.nan
+    wavfile.write(bad, FS, x)
+    run = noisesonde_command("ensemble", good, bad)
+    assert run.code == 2 and "bad.wav" in run.stderr and "sample 1234" in run.stderr
+    assert "panicked" not in run.stderr
