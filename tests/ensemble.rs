@@ -65,7 +65,11 @@ fn random_constants_are_not_ergodic_in_the_mean_though_each_record_looks_station
         let data: Vec<Vec<f64>> = (0..RECORDS)
             .map(|_| {
                 let level = noise.normal();
-                noise.normals(RECORD_LEN).into_iter().map(|v| v + level).collect()
+                noise
+                    .normals(RECORD_LEN)
+                    .into_iter()
+                    .map(|v| v + level)
+                    .collect()
             })
             .collect();
         let r = ensemble_of(&data, &settings);
@@ -85,7 +89,10 @@ fn random_constants_are_not_ergodic_in_the_mean_though_each_record_looks_station
     // only ensembles whose four constants happen to lie within a few hundredths escape.
     assert!(flagged_rate >= 0.97, "flagged in {flagged_rate}");
     // Each record alone: a line fails with probability at most about 2α (two tests at α).
-    assert!(stationary_rate >= 0.85, "records stationary in {stationary_rate}");
+    assert!(
+        stationary_rate >= 0.85,
+        "records stationary in {stationary_rate}"
+    );
     let r = any_report.unwrap();
     // The variance across records includes the spread of the constants; within a record it
     // does not (Bendat & Piersol 2010, chapter 1: ensemble vs time averages).
@@ -174,7 +181,9 @@ fn across_record_statistics_equal_their_definitions() {
         let k = lag.lag_len;
         let by_segment: f64 = (0..e.segments)
             .map(|j| {
-                let pairs: Vec<f64> = ((j * b).max(k)..(j + 1) * b).map(|m| x[m - k] * x[m]).collect();
+                let pairs: Vec<f64> = ((j * b).max(k)..(j + 1) * b)
+                    .map(|m| x[m - k] * x[m])
+                    .collect();
                 pairs.iter().sum::<f64>() / pairs.len() as f64
             })
             .sum::<f64>()
@@ -211,7 +220,10 @@ fn lockstep_reading_stops_at_the_shortest_record_and_says_so() {
     );
     let text = serde_json::to_string(&r).unwrap();
     let back: EnsembleReport = serde_json::from_str(&text).unwrap();
-    assert!(back == r, "the ensemble report changed in a JSON round trip");
+    assert!(
+        back == r,
+        "the ensemble report changed in a JSON round trip"
+    );
     let v: serde_json::Value = serde_json::from_str(&text).unwrap();
     for path in [
         "/ensemble/mean/ergodic",
@@ -234,7 +246,10 @@ fn bad_ensembles_are_typed_errors_naming_the_values() {
         SettingsError::TooFewRecords { records: 1 }
     );
     let message = EnsembleAnalyzer::new(&s, &one).unwrap_err().to_string();
-    assert!(message.contains("cannot be tested from one record"), "{message}");
+    assert!(
+        message.contains("cannot be tested from one record"),
+        "{message}"
+    );
     let mixed = [info("a", FS_HZ), info("b", 2.0 * FS_HZ)];
     assert!(matches!(
         EnsembleAnalyzer::new(&s, &mixed).unwrap_err(),
@@ -255,20 +270,35 @@ fn bad_ensembles_are_typed_errors_naming_the_values() {
     let mut analyzer = EnsembleAnalyzer::new(&s, &two).unwrap();
     assert!(matches!(
         analyzer.push(&[&[1.0, 2.0], &[1.0]]).unwrap_err(),
-        AnalysisError::UnequalBlocks { record: 1, len: 1, expected: 2 }
+        AnalysisError::UnequalBlocks {
+            record: 1,
+            len: 1,
+            expected: 2
+        }
     ));
     assert!(matches!(
         analyzer.push(&[&[1.0]]).unwrap_err(),
-        AnalysisError::BlockCount { blocks: 1, records: 2 }
+        AnalysisError::BlockCount {
+            blocks: 1,
+            records: 2
+        }
     ));
     assert!(matches!(
         analyzer.push(&[&[1.0, 2.0], &[1.0, f64::NAN]]).unwrap_err(),
-        AnalysisError::NonFiniteSampleIn { record: 1, index: 1, .. }
+        AnalysisError::NonFiniteSampleIn {
+            record: 1,
+            index: 1,
+            ..
+        }
     ));
     analyzer.push(&[&[1.0; 100], &[2.0; 100]]).unwrap();
     assert!(matches!(
         analyzer.report(&[]).unwrap_err(),
-        AnalysisError::EnsembleTooShort { samples: 100, needed: 640, segments: 20 }
+        AnalysisError::EnsembleTooShort {
+            samples: 100,
+            needed: 640,
+            segments: 20
+        }
     ));
     let mut lone = VecSource::new(vec![0.0; 10], FS_HZ);
     let mut sources: Vec<&mut dyn SampleSource> = vec![&mut lone];
