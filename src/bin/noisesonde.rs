@@ -601,7 +601,7 @@ fn ensemble_summary(r: &EnsembleReport) -> String {
     for lag in &e.autocorrelation {
         row(
             &mut s,
-            &format!("R at {} samples", lag.lag_len),
+            &format!("R at lag {}", lag.lag_len),
             &lag.line,
             &r.units.power,
         );

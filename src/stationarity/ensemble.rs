@@ -358,7 +358,7 @@ pub fn assess_ensemble(
     }
     for lag in &autocorrelation {
         if !lag.line.ergodic {
-            failing.push(format!("R at {} samples", lag.lag_len));
+            failing.push(format!("R at lag {}", lag.lag_len));
         }
     }
     let basis = format!(
