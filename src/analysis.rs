@@ -15,7 +15,11 @@ use crate::report::{
 };
 use crate::spectral::confidence::ConfidenceFactors;
 use crate::spectral::inverse::InversePlan;
-use crate::spectral::{Average, Detrend, Welch, WelchPlan, WelchResult, WelchSettings};
+use crate::spectral::{
+    Average, Detrend, Spectrogram, Welch, WelchPlan, WelchResult, WelchSettings,
+};
+use crate::stationarity::segments::SegmentAccumulator;
+use crate::stationarity::{assess, StationaritySettings};
 use crate::units::{Calibration, DerivedUnits};
 
 /// Samples handled per internal step (and per read from a source).
@@ -42,6 +46,8 @@ pub struct Settings {
     pub calibration: Calibration,
     /// Confidence level of the PSD interval.
     pub confidence_level: f64,
+    /// Segments, significance and lags of the stationarity tests.
+    pub stationarity: StationaritySettings,
 }
 
 impl Default for Settings {
@@ -52,6 +58,7 @@ impl Default for Settings {
             acf_estimator: AcfEstimator::default(),
             calibration: Calibration::default(),
             confidence_level: DEFAULT_CONFIDENCE_LEVEL,
+            stationarity: StationaritySettings::default(),
         }
     }
 }
@@ -68,6 +75,7 @@ pub struct Analyzer {
     /// The Wiener–Khinchin check's inverse FFT and window correlation, prepared once (a live
     /// view asks for a report many times a second).
     wiener_khinchin: Option<InversePlan>,
+    segments: SegmentAccumulator,
     scaled: Vec<f64>,
     samples: u64,
 }
@@ -88,6 +96,7 @@ impl Analyzer {
             return Err(SettingsError::ConfidenceLevel { level });
         }
         let welch_plan = WelchPlan::new(&settings.welch)?;
+        let segment_plan = settings.stationarity.plan()?;
         let max_lag_len = match settings.max_lag_s {
             None => settings.welch.segment_len,
             Some(max_lag_s) => {
@@ -117,6 +126,7 @@ impl Analyzer {
             ),
             welch: Welch::new(welch_plan),
             acf: Acf::new(AcfPlan::new(max_lag_len)?),
+            segments: SegmentAccumulator::new(segment_plan),
             scaled: Vec::with_capacity(BLOCK_LEN),
             samples: 0,
         })
@@ -147,6 +157,7 @@ impl Analyzer {
             self.moments.push(&self.scaled);
             self.welch.push(&self.scaled)?;
             self.acf.push(&self.scaled);
+            self.segments.push(&self.scaled);
             self.samples += chunk.len() as u64;
         }
         Ok(())
@@ -158,11 +169,11 @@ impl Analyzer {
     /// # Errors
     /// [`AnalysisError::TooShort`] before one whole PSD segment.
     pub fn report(&self, source_warnings: &[String]) -> Result<Report, AnalysisError> {
-        let welch = self
+        let (welch, spectrogram) = self
             .welch
-            .finish(self.source.sample_rate_hz)
+            .finish_with_spectrogram(self.source.sample_rate_hz)
             .ok_or_else(|| self.too_short())?;
-        self.report_with(welch, source_warnings)
+        self.report_with(welch, Some(spectrogram), source_warnings)
     }
 
     fn too_short(&self) -> AnalysisError {
@@ -176,13 +187,15 @@ impl Analyzer {
     /// [`Analyzer::report`] with the PSD given rather than this analyzer's own Welch average:
     /// a live view's recent average, on the same plan (window, segment, overlap), so that its
     /// interval, checks and units come out of the same code. Moments and the autocorrelation
-    /// are this analyzer's. `welch.density` must have the plan's bins.
+    /// are this analyzer's. `welch.density` must have the plan's bins. Without a
+    /// `spectrogram` the stationarity section has none.
     ///
     /// # Errors
     /// [`AnalysisError::TooShort`] before one whole PSD segment.
     pub fn report_with(
         &self,
         welch: WelchResult,
+        spectrogram: Option<Spectrogram>,
         source_warnings: &[String],
     ) -> Result<Report, AnalysisError> {
         let segment_len = self.settings.welch.segment_len;
@@ -304,6 +317,32 @@ impl Analyzer {
             ));
         }
 
+        let stationarity = match self.segments.finish().and_then(|summary| {
+            assess(
+                &summary,
+                &self.settings.stationarity,
+                fs,
+                Some(&acf.coefficient),
+                spectrogram,
+            )
+        }) {
+            Some((report, found)) => {
+                warnings.extend(found);
+                Some(report)
+            }
+            None => {
+                let plan = self.segments.plan();
+                warnings.push(format!(
+                    "no stationarity tests: they need {} segments of at least {} samples ({} samples), the record has {}",
+                    plan.min_segments,
+                    plan.base_len,
+                    plan.min_segments as u64 * plan.base_len,
+                    self.samples
+                ));
+                None
+            }
+        };
+
         let zero_crossing_s = first_crossing(&acf.coefficient, 0.0).map(|k| k / fs);
         let one_over_e_s = first_crossing(&acf.coefficient, (-1.0f64).exp()).map(|k| k / fs);
         let segments_used = self.welch.plan().segments_in(self.samples);
@@ -361,6 +400,7 @@ impl Analyzer {
                 parseval,
                 wiener_khinchin,
             },
+            stationarity,
             warnings,
         })
     }

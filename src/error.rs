@@ -52,6 +52,34 @@ pub enum SettingsError {
     },
     #[error("segment-power queue of {queue_len} segments is out of range: use 1 to {max}")]
     PowerQueueLength { queue_len: usize, max: usize },
+    #[error("{segments} stationarity segments is out of range: use {min} to {max} (the record is cut into that many to twice as many segments)")]
+    StationaritySegments {
+        segments: usize,
+        min: usize,
+        max: usize,
+    },
+    #[error(
+        "significance {alpha} is invalid: use a probability above 0 and below {max}, e.g. 0.05"
+    )]
+    Alpha { alpha: f64, max: f64 },
+    #[error("{max_lag_len} lags for the stationarity autocorrelation check is out of range: use 1 to {max} samples")]
+    StationarityLags { max_lag_len: usize, max: usize },
+    #[error("{stretches} stretches for the autocorrelation comparison is out of range: use {min} to {max} (at most the number of segments)")]
+    Stretches {
+        stretches: usize,
+        min: usize,
+        max: usize,
+    },
+    #[error("an ensemble needs at least 2 records, got {records}: ergodicity cannot be tested from one record")]
+    TooFewRecords { records: usize },
+    #[error("record {record} has a sample rate of {sample_rate_hz} Hz but the first has {first_hz} Hz: an ensemble's records must be sampled alike")]
+    SampleRateMismatch {
+        record: usize,
+        sample_rate_hz: f64,
+        first_hz: f64,
+    },
+    #[error("ensemble lag {lag_len} exceeds the stationarity lags ({max_lag_len} samples): choose lags up to {max_lag_len} or raise --stationarity-lags")]
+    EnsembleLag { lag_len: usize, max_lag_len: usize },
     #[error("unknown {what} '{text}': use one of {choices}")]
     UnknownChoice {
         what: &'static str,
@@ -75,6 +103,27 @@ pub enum AnalysisError {
         samples: u64,
         segment_len: usize,
         suggestion: usize,
+    },
+    #[error("record {record}, sample {index} (at {time_s} s) is {value}: the record holds a non-finite value; remove or repair it before analysis")]
+    NonFiniteSampleIn {
+        record: usize,
+        index: u64,
+        time_s: f64,
+        value: f64,
+    },
+    #[error("{blocks} blocks were pushed for an ensemble of {records} records: push one block per record")]
+    BlockCount { blocks: usize, records: usize },
+    #[error("the ensemble's blocks differ in length (record {record} has {len} samples, record 0 has {expected}): push aligned blocks of equal length")]
+    UnequalBlocks {
+        record: usize,
+        len: usize,
+        expected: usize,
+    },
+    #[error("the records have {samples} aligned samples, fewer than the {needed} the ensemble's {segments} segments need: use longer records or fewer --stationarity-segments")]
+    EnsembleTooShort {
+        samples: u64,
+        needed: u64,
+        segments: usize,
     },
     #[error("median averaging would store {segments} segments × {bins} bins, more than {max_values} values: use mean averaging, longer segments, or a shorter record")]
     MedianTooLong {

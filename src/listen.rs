@@ -325,7 +325,7 @@ impl LiveSession {
             overlap_len: snapshot.overlap_len,
             dof: snapshot.dof,
         };
-        let mut report = self.analyzer.report_with(live_psd, &[]).ok()?;
+        let mut report = self.analyzer.report_with(live_psd, None, &[]).ok()?;
         report.psd.unused_samples = 0;
         report.warnings.insert(
             0,

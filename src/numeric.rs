@@ -29,3 +29,24 @@ pub(crate) fn median(values: &mut [f64]) -> f64 {
         0.5 * (lower + upper)
     }
 }
+
+/// Σ a[i]·b[i] over the shorter length, in eight interleaved partial sums (see
+/// [`sum_in_lanes`]).
+pub(crate) fn dot_in_lanes(a: &[f64], b: &[f64]) -> f64 {
+    let len = a.len().min(b.len());
+    let (a, b) = (&a[..len], &b[..len]);
+    let mut lanes = [0.0f64; 8];
+    let (ca, cb) = (a.chunks_exact(8), b.chunks_exact(8));
+    let tail: f64 = ca
+        .remainder()
+        .iter()
+        .zip(cb.remainder())
+        .map(|(x, y)| x * y)
+        .sum();
+    for (xa, xb) in ca.zip(cb) {
+        for ((lane, x), y) in lanes.iter_mut().zip(xa).zip(xb) {
+            *lane += x * y;
+        }
+    }
+    lanes.iter().sum::<f64>() + tail
+}

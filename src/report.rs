@@ -7,6 +7,7 @@ use crate::acf::AcfEstimator;
 use crate::io::SourceInfo;
 use crate::moments::Moments;
 use crate::spectral::{Average, Detrend};
+use crate::stationarity::StationarityReport;
 use crate::units::{Calibration, DerivedUnits};
 use crate::window::WindowKind;
 
@@ -42,6 +43,9 @@ pub struct Report {
     pub acf: AcfReport,
     /// Consistency checks between the estimators.
     pub checks: Checks,
+    /// Stationarity tests on segment statistics; `None` when the record is too short for them.
+    #[serde(default)]
+    pub stationarity: Option<StationarityReport>,
     /// Things the user should know (truncated files, clipping, few segments, …).
     pub warnings: Vec<String>,
 }
@@ -183,7 +187,8 @@ impl ReportArrays {
 
 impl Report {
     /// Dotted JSON paths of the arrays that [`Report::take_arrays`] moves out, in its order.
-    pub const ARRAY_PATHS: [&'static str; 9] = [
+    /// Those under `stationarity` exist only when the report has stationarity tests.
+    pub const ARRAY_PATHS: [&'static str; 23] = [
         "psd.frequency_hz",
         "psd.density",
         "psd.power_spectrum",
@@ -193,39 +198,110 @@ impl Report {
         "acf.autocorrelation",
         "acf.autocovariance",
         "acf.coefficient",
+        "stationarity.segments.start_s",
+        "stationarity.segments.mean",
+        "stationarity.segments.mean_square",
+        "stationarity.segments.variance",
+        "stationarity.autocorrelation.comparison.stretch_start_s",
+        "stationarity.autocorrelation.comparison.stretch_duration_s",
+        "stationarity.autocorrelation.comparison.lag_s",
+        "stationarity.autocorrelation.comparison.coefficient_by_stretch",
+        "stationarity.autocorrelation.comparison.pooled",
+        "stationarity.autocorrelation.comparison.standard_error",
+        "stationarity.spectrogram.frequency_hz",
+        "stationarity.spectrogram.start_s",
+        "stationarity.spectrogram.end_s",
+        "stationarity.spectrogram.density",
     ];
 
-    fn array_slots(&mut self) -> [&mut Vec<f64>; 9] {
+    /// The arrays of [`Report::ARRAY_PATHS`], in order; `None` where the report has no such
+    /// part (no stationarity tests, or no spectrogram).
+    fn array_slots(&mut self) -> [Option<&mut Vec<f64>>; 23] {
         let (psd, acf) = (&mut self.psd, &mut self.acf);
+        let (segments, comparison, spectrogram) = match self.stationarity.as_mut() {
+            Some(st) => (
+                Some(&mut st.segments),
+                Some(&mut st.autocorrelation.comparison),
+                st.spectrogram.as_mut(),
+            ),
+            None => (None, None, None),
+        };
+        let (start_s, mean, mean_square, variance) = match segments {
+            Some(s) => (
+                Some(&mut s.start_s),
+                Some(&mut s.mean),
+                Some(&mut s.mean_square),
+                Some(&mut s.variance),
+            ),
+            None => (None, None, None, None),
+        };
+        let (stretch_start_s, stretch_duration_s, lag_s, by_stretch, pooled, standard_error) =
+            match comparison {
+                Some(c) => (
+                    Some(&mut c.stretch_start_s),
+                    Some(&mut c.stretch_duration_s),
+                    Some(&mut c.lag_s),
+                    Some(&mut c.coefficient_by_stretch),
+                    Some(&mut c.pooled),
+                    Some(&mut c.standard_error),
+                ),
+                None => (None, None, None, None, None, None),
+            };
+        let (frequency_hz, column_start_s, column_end_s, density) = match spectrogram {
+            Some(g) => (
+                Some(&mut g.frequency_hz),
+                Some(&mut g.start_s),
+                Some(&mut g.end_s),
+                Some(&mut g.density),
+            ),
+            None => (None, None, None, None),
+        };
         [
-            &mut psd.frequency_hz,
-            &mut psd.density,
-            &mut psd.power_spectrum,
-            &mut psd.ci_lower,
-            &mut psd.ci_upper,
-            &mut acf.lag_s,
-            &mut acf.autocorrelation,
-            &mut acf.autocovariance,
-            &mut acf.coefficient,
+            Some(&mut psd.frequency_hz),
+            Some(&mut psd.density),
+            Some(&mut psd.power_spectrum),
+            Some(&mut psd.ci_lower),
+            Some(&mut psd.ci_upper),
+            Some(&mut acf.lag_s),
+            Some(&mut acf.autocorrelation),
+            Some(&mut acf.autocovariance),
+            Some(&mut acf.coefficient),
+            start_s,
+            mean,
+            mean_square,
+            variance,
+            stretch_start_s,
+            stretch_duration_s,
+            lag_s,
+            by_stretch,
+            pooled,
+            standard_error,
+            frequency_hz,
+            column_start_s,
+            column_end_s,
+            density,
         ]
     }
 
-    /// Moves the long arrays out (they become empty here), named by [`Report::ARRAY_PATHS`].
+    /// Moves the long arrays out (they become empty here), named by [`Report::ARRAY_PATHS`];
+    /// a part the report lacks gives an empty array.
     pub fn take_arrays(&mut self) -> ReportArrays {
         let arrays = Self::ARRAY_PATHS
             .into_iter()
             .zip(self.array_slots())
-            .map(|(path, slot)| (path, std::mem::take(slot)))
+            .map(|(path, slot)| (path, slot.map(std::mem::take).unwrap_or_default()))
             .collect();
         ReportArrays { arrays }
     }
 
     /// Puts back arrays taken by [`Report::take_arrays`] (or rebuilt from their paths); a path
-    /// that is missing leaves its array as it is.
+    /// that is missing, or names a part the report lacks, leaves things as they are.
     pub fn restore_arrays(&mut self, arrays: ReportArrays) {
         for (path, values) in arrays.arrays {
             if let Some(index) = Self::ARRAY_PATHS.iter().position(|p| *p == path) {
-                *self.array_slots()[index] = values;
+                if let Some(slot) = self.array_slots().into_iter().nth(index).flatten() {
+                    *slot = values;
+                }
             }
         }
     }

@@ -7,6 +7,7 @@ use common::VecSource;
 use common::noise::Noise;
 use noisesonde::analysis::{analyze, Analyzer, Settings};
 use noisesonde::spectral::{Detrend, WelchSettings};
+use noisesonde::stationarity::StationaritySettings;
 use noisesonde::units::Calibration;
 use noisesonde::window::WindowKind;
 use noisesonde::{AnalysisError, Error, SettingsError};
@@ -280,6 +281,46 @@ fn bad_settings_are_refused_with_the_value_named() {
             },
             "1.5",
         ),
+        (
+            Settings {
+                stationarity: StationaritySettings {
+                    segments: 5,
+                    ..Default::default()
+                },
+                ..Default::default()
+            },
+            "5 stationarity segments",
+        ),
+        (
+            Settings {
+                stationarity: StationaritySettings {
+                    alpha: 0.7,
+                    ..Default::default()
+                },
+                ..Default::default()
+            },
+            "significance 0.7",
+        ),
+        (
+            Settings {
+                stationarity: StationaritySettings {
+                    max_lag_len: 0,
+                    ..Default::default()
+                },
+                ..Default::default()
+            },
+            "0 lags",
+        ),
+        (
+            Settings {
+                stationarity: StationaritySettings {
+                    stretches: 21,
+                    ..Default::default()
+                },
+                ..Default::default()
+            },
+            "21 stretches",
+        ),
     ];
     for (settings, needle) in cases {
         let err = Analyzer::new(&settings, &info).unwrap_err();
@@ -338,6 +379,21 @@ fn report_json_has_the_documented_fields() {
         "/psd/enbw_hz",
         "/psd/segments",
         "/psd/dof",
+        "/stationarity/alpha",
+        "/stationarity/segments/count",
+        "/stationarity/segments/segment_s",
+        "/stationarity/mean/stationary",
+        "/stationarity/mean/reverse_arrangements/statistic",
+        "/stationarity/mean/reverse_arrangements/lower",
+        "/stationarity/mean/reverse_arrangements/upper",
+        "/stationarity/mean/runs/statistic",
+        "/stationarity/mean/advice",
+        "/stationarity/mean_square/stationary",
+        "/stationarity/autocorrelation/stationary",
+        "/stationarity/autocorrelation/comparison/coefficient_by_stretch",
+        "/stationarity/spectrogram/density",
+        "/stationarity/verdict",
+        "/stationarity/ergodicity",
         "/psd/ci_lower",
         "/psd/ci_upper",
         "/acf/lag_s",
@@ -390,4 +446,50 @@ fn report_arrays_split_and_rejoin_exactly() {
     assert!(serde_json::to_string(&summary).unwrap().len() < 4096);
     summary.restore_arrays(arrays);
     assert!(summary == r, "the report changed in a split and rejoin");
+}
+
+/// A constant record has nothing to order: every pair of segment values ties, so the reverse
+/// arrangements count is N(N−1)/4 exactly, its expected value; no value lies off the median, so
+/// there are no runs and the runs test has nothing to test; every stretch has zero variance, so
+/// every coefficient is 0 and none departs from the pooled one. All three lines pass.
+#[test]
+fn a_constant_record_is_stationary_in_every_line() {
+    let r = run(vec![0.25; 50_000], 1000.0, &Settings::default()).unwrap();
+    let st = r.stationarity.unwrap();
+    let n = st.segments.count as f64;
+    assert_eq!(st.mean.reverse_arrangements.statistic, n * (n - 1.0) / 4.0);
+    assert_eq!(st.mean.runs.statistic, 0);
+    assert_eq!((st.mean.runs.above, st.mean.runs.below), (0, 0));
+    assert!(st.mean.stationary && st.mean_square.stationary && st.autocorrelation.stationary);
+    assert!(st.segments.variance.iter().all(|&v| v == 0.0));
+}
+
+/// Too few samples for M segments of the base length: no stationarity section, and a warning
+/// that gives the numbers (20 segments of 32 samples = 640 samples by default).
+#[test]
+fn a_record_too_short_for_the_segments_says_so() {
+    let settings = Settings {
+        welch: WelchSettings {
+            segment_len: 64,
+            ..Default::default()
+        },
+        ..Default::default()
+    };
+    let r = run(Noise::new(4).normals(500), 1000.0, &settings).unwrap();
+    assert!(r.stationarity.is_none());
+    assert!(
+        r.warnings
+            .iter()
+            .any(|w| w.contains("no stationarity tests")
+                && w.contains("640 samples")
+                && w.contains("500")),
+        "{:?}",
+        r.warnings
+    );
+    // The page's array split works without the stationarity part.
+    let mut summary = r.clone();
+    let arrays = summary.take_arrays();
+    assert!(arrays.get("stationarity.segments.mean").unwrap().is_empty());
+    summary.restore_arrays(arrays);
+    assert!(summary == r);
 }

@@ -1,4 +1,5 @@
-//! Command-line front end: `noisesonde analyze FILE [options]`.
+//! Command-line front end: `noisesonde analyze FILE [options]` for one record,
+//! `noisesonde ensemble FILE FILE... [options]` for ergodicity across several.
 //!
 //! Exit status: 0 on success, 2 for bad input or settings (the message names the problem),
 //! 1 when an output file cannot be written.
@@ -12,12 +13,17 @@ use clap::{Args, Parser, Subcommand};
 
 use noisesonde::acf::AcfEstimator;
 use noisesonde::analysis::{analyze, Settings, DEFAULT_CONFIDENCE_LEVEL};
-use noisesonde::io::{self, ColumnSelector, InputOptions, RawFormat};
+use noisesonde::ensemble_analysis::{analyze_ensemble, EnsembleReport, EnsembleSettings};
+use noisesonde::io::{self, ColumnSelector, InputOptions, RawFormat, SampleSource};
 use noisesonde::spectral::welch::{DEFAULT_OVERLAP_FRAC, DEFAULT_SEGMENT_LEN};
 use noisesonde::spectral::{Average, Detrend, WelchSettings};
+use noisesonde::stationarity::{
+    LevelLine, StationarityReport, StationaritySettings, DEFAULT_ALPHA, DEFAULT_MAX_LAG_LEN,
+    DEFAULT_SEGMENTS, DEFAULT_STRETCHES,
+};
 use noisesonde::units::Calibration;
 use noisesonde::window::WindowKind;
-use noisesonde::Report;
+use noisesonde::{AnalysisError, Report, SettingsError};
 
 /// Noise measurement from a recording: calibrated PSD, autocorrelation and lab quantities.
 #[derive(Parser)]
@@ -31,12 +37,13 @@ struct Cli {
 enum Command {
     /// Analyse one channel of a WAV/FLAC, CSV/TSV or raw file.
     Analyze(AnalyzeArgs),
+    /// Compare several records of one process: are time averages ergodic?
+    Ensemble(EnsembleArgs),
 }
 
+/// How to read a recording (shared by every subcommand).
 #[derive(Args)]
-struct AnalyzeArgs {
-    /// The recording.
-    file: PathBuf,
+struct InputArgs {
     /// Channel to analyse, 0-based (for text: the n-th data column).
     #[arg(long, value_name = "K")]
     channel: Option<usize>,
@@ -55,6 +62,75 @@ struct AnalyzeArgs {
     /// Time column of a CSV, by header name or 0-based index (default: a column named like time).
     #[arg(long, value_name = "NAME|INDEX")]
     time_column: Option<ColumnSelector>,
+}
+
+impl InputArgs {
+    fn options(&self) -> InputOptions {
+        InputOptions {
+            channel: self.channel,
+            column: self.column.clone(),
+            time_column: self.time_column.clone(),
+            sample_rate_hz: self.sample_rate,
+            raw: self.raw,
+            channels: self.channels,
+        }
+    }
+}
+
+/// Full scale → physical units.
+#[derive(Args)]
+struct CalibrationArgs {
+    /// Physical value of digital full scale (for text input: of one input unit).
+    #[arg(long, value_name = "UNITS_PER_FS", default_value_t = 1.0)]
+    scale: f64,
+    /// Name of the physical unit, e.g. V, Pa, g.
+    #[arg(long)]
+    unit: Option<String>,
+}
+
+impl CalibrationArgs {
+    fn calibration(&self) -> Calibration {
+        Calibration {
+            scale_units_per_fs: self.scale,
+            unit: self.unit.clone(),
+        }
+    }
+}
+
+/// The stationarity tests.
+#[derive(Args)]
+struct StationarityArgs {
+    /// Significance of each stationarity (and ergodicity) test.
+    #[arg(long, value_name = "ALPHA", default_value_t = DEFAULT_ALPHA)]
+    alpha: f64,
+    /// Cut the record into M to 2M-1 equal segments for the stationarity tests.
+    #[arg(long, value_name = "M", default_value_t = DEFAULT_SEGMENTS)]
+    stationarity_segments: usize,
+    /// Largest lag (samples) of the check that the autocorrelation depends on lag alone.
+    #[arg(long, value_name = "K", default_value_t = DEFAULT_MAX_LAG_LEN)]
+    stationarity_lags: usize,
+    /// Stretches of the record whose autocorrelations are compared.
+    #[arg(long, value_name = "J", default_value_t = DEFAULT_STRETCHES)]
+    stationarity_stretches: usize,
+}
+
+impl StationarityArgs {
+    fn settings(&self) -> StationaritySettings {
+        StationaritySettings {
+            segments: self.stationarity_segments,
+            alpha: self.alpha,
+            max_lag_len: self.stationarity_lags,
+            stretches: self.stationarity_stretches,
+        }
+    }
+}
+
+#[derive(Args)]
+struct AnalyzeArgs {
+    /// The recording.
+    file: PathBuf,
+    #[command(flatten)]
+    input: InputArgs,
     /// Window: hann, hamming, blackman-harris, flat-top, rectangular or kaiser:BETA.
     #[arg(long, default_value_t = WindowKind::Hann)]
     window: WindowKind,
@@ -79,12 +155,10 @@ struct AnalyzeArgs {
     /// Confidence level of the PSD interval.
     #[arg(long, value_name = "LEVEL", default_value_t = DEFAULT_CONFIDENCE_LEVEL)]
     confidence: f64,
-    /// Physical value of digital full scale (for text input: of one input unit).
-    #[arg(long, value_name = "UNITS_PER_FS", default_value_t = 1.0)]
-    scale: f64,
-    /// Name of the physical unit, e.g. V, Pa, g.
-    #[arg(long)]
-    unit: Option<String>,
+    #[command(flatten)]
+    calibration: CalibrationArgs,
+    #[command(flatten)]
+    stationarity: StationarityArgs,
     /// Write the full report as JSON to PATH ('-' for standard output).
     #[arg(long, value_name = "PATH")]
     json: Option<PathBuf>,
@@ -96,33 +170,61 @@ struct AnalyzeArgs {
     quiet: bool,
 }
 
+#[derive(Args)]
+struct EnsembleArgs {
+    /// The records: two or more recordings of the same process, sampled alike.
+    #[arg(required = true)]
+    files: Vec<PathBuf>,
+    #[command(flatten)]
+    input: InputArgs,
+    #[command(flatten)]
+    calibration: CalibrationArgs,
+    #[command(flatten)]
+    stationarity: StationarityArgs,
+    /// Lags (samples, comma-separated, each up to --stationarity-lags) at which the records'
+    /// autocorrelations are compared (default: 1, 2, 4, ... up to --stationarity-lags).
+    #[arg(long, value_name = "N,N,...", value_delimiter = ',')]
+    lags: Option<Vec<usize>>,
+    /// Write the ensemble report as JSON to PATH ('-' for standard output).
+    #[arg(long, value_name = "PATH")]
+    json: Option<PathBuf>,
+    /// Print no summary.
+    #[arg(long, short)]
+    quiet: bool,
+}
+
 fn main() -> ExitCode {
     let cli = Cli::parse();
     match cli.command {
         Command::Analyze(args) => run_analyze(&args),
+        Command::Ensemble(args) => run_ensemble(&args),
     }
 }
 
-fn run_analyze(args: &AnalyzeArgs) -> ExitCode {
-    let name = args.file.file_name().map_or_else(
-        || args.file.display().to_string(),
+/// The file's name for messages and reports.
+fn display_name(path: &Path) -> String {
+    path.file_name().map_or_else(
+        || path.display().to_string(),
         |n| n.to_string_lossy().into_owned(),
-    );
-    let file = match File::open(&args.file) {
-        Ok(f) => f,
-        Err(e) => {
-            eprintln!("error: {}: cannot open: {e}", args.file.display());
-            return ExitCode::from(2);
-        }
-    };
-    let options = InputOptions {
-        channel: args.channel,
-        column: args.column.clone(),
-        time_column: args.time_column.clone(),
-        sample_rate_hz: args.sample_rate,
-        raw: args.raw,
-        channels: args.channels,
-    };
+    )
+}
+
+/// Opens `path` as a sample source, or the message to print.
+fn open_source(
+    path: &Path,
+    options: &InputOptions,
+) -> Result<Box<dyn SampleSource + Send>, String> {
+    let file = File::open(path).map_err(|e| format!("{}: cannot open: {e}", path.display()))?;
+    io::open(
+        BufReader::with_capacity(1 << 20, file),
+        &display_name(path),
+        options,
+    )
+    .map_err(|e| e.to_string())
+}
+
+fn run_analyze(args: &AnalyzeArgs) -> ExitCode {
+    let options = args.input.options();
     let settings = Settings {
         welch: WelchSettings {
             window: args.window,
@@ -133,15 +235,12 @@ fn run_analyze(args: &AnalyzeArgs) -> ExitCode {
         },
         max_lag_s: args.max_lag_s,
         acf_estimator: args.acf,
-        calibration: Calibration {
-            scale_units_per_fs: args.scale,
-            unit: args.unit.clone(),
-        },
+        calibration: args.calibration.calibration(),
         confidence_level: args.confidence,
+        stationarity: args.stationarity.settings(),
     };
-    let report = match io::open(BufReader::with_capacity(1 << 20, file), &name, &options)
-        .map_err(noisesonde::Error::from)
-        .and_then(|mut source| analyze(source.as_mut(), &settings))
+    let report = match open_source(&args.file, &options)
+        .and_then(|mut source| analyze(source.as_mut(), &settings).map_err(|e| e.to_string()))
     {
         Ok(report) => report,
         Err(e) => {
@@ -177,7 +276,74 @@ fn run_analyze(args: &AnalyzeArgs) -> ExitCode {
     ExitCode::SUCCESS
 }
 
-fn write_json(report: &Report, path: &Path) -> std::io::Result<()> {
+fn run_ensemble(args: &EnsembleArgs) -> ExitCode {
+    if args.files.len() < 2 {
+        eprintln!(
+            "error: ergodicity cannot be tested from one record: give two or more recordings of the same process (noisesonde ensemble FILE FILE ...); `noisesonde analyze` tests one record's stationarity"
+        );
+        return ExitCode::from(2);
+    }
+    let options = args.input.options();
+    let mut sources = Vec::with_capacity(args.files.len());
+    for path in &args.files {
+        match open_source(path, &options) {
+            Ok(source) => sources.push(source),
+            Err(e) => {
+                eprintln!("error: {e}");
+                return ExitCode::from(2);
+            }
+        }
+    }
+    let settings = EnsembleSettings {
+        calibration: args.calibration.calibration(),
+        stationarity: args.stationarity.settings(),
+        lags_len: args.lags.clone(),
+    };
+    let mut refs: Vec<&mut dyn SampleSource> = sources
+        .iter_mut()
+        .map(|s| s.as_mut() as &mut dyn SampleSource)
+        .collect();
+    let report = match analyze_ensemble(&mut refs, &settings) {
+        Ok(report) => report,
+        Err(e) => {
+            // Errors about one record name it by its 0-based index: give the file too.
+            let record = match &e {
+                noisesonde::Error::Analysis(AnalysisError::NonFiniteSampleIn {
+                    record, ..
+                })
+                | noisesonde::Error::Settings(SettingsError::SampleRateMismatch {
+                    record, ..
+                }) => args.files.get(*record),
+                _ => None,
+            };
+            match record {
+                Some(path) => eprintln!("error: {}: {e}", path.display()),
+                None => eprintln!("error: {e}"),
+            }
+            return ExitCode::from(2);
+        }
+    };
+    if let Some(path) = &args.json {
+        if let Err(e) = write_json(&report, path) {
+            eprintln!("error: cannot write {}: {e}", path.display());
+            return ExitCode::from(1);
+        }
+    }
+    if !args.quiet {
+        let summary = ensemble_summary(&report);
+        if args.json.as_deref() == Some(Path::new("-")) {
+            eprint!("{summary}");
+        } else {
+            print!("{summary}");
+        }
+    }
+    for w in &report.warnings {
+        eprintln!("warning: {w}");
+    }
+    ExitCode::SUCCESS
+}
+
+fn write_json<T: serde::Serialize>(report: &T, path: &Path) -> std::io::Result<()> {
     if path == Path::new("-") {
         let stdout = std::io::stdout();
         let mut out = BufWriter::new(stdout.lock());
@@ -329,6 +495,126 @@ fn summary(r: &Report) -> String {
         c.wiener_khinchin.max_deviation * 100.0,
         c.wiener_khinchin.lags_compared
     );
+    match &r.stationarity {
+        Some(st) => stationarity_summary(&mut s, st),
+        None => {
+            let _ = writeln!(
+                s,
+                "Stationarity: not tested (the record is too short; see the warning)"
+            );
+        }
+    }
+    s
+}
+
+/// The stationarity verdict: a line per quantity with its tests, and what to try on failure.
+fn stationarity_summary(s: &mut String, st: &StationarityReport) {
+    use std::fmt::Write as _;
+    let _ = writeln!(s, "Stationarity: {}", st.verdict);
+    let seg = &st.segments;
+    let _ = writeln!(
+        s,
+        "  {} segments of {} samples ({:.6} s); {} samples after the last not tested",
+        seg.count, seg.segment_len, seg.segment_s, seg.unused_samples
+    );
+    for (label, line) in [("mean", &st.mean), ("mean square", &st.mean_square)] {
+        level_line(s, label, line);
+    }
+    let a = &st.autocorrelation;
+    let c = &a.comparison;
+    let _ = writeln!(
+        s,
+        "  {:<16} {:<14} {} stretches, lags to {} samples: largest deviation {:.2} standard errors (threshold {:.2})",
+        "autocorrelation",
+        verdict_word(a.stationary),
+        c.stretches,
+        c.lag_s.len().saturating_sub(1),
+        c.largest_deviation,
+        c.threshold
+    );
+    if !a.stationary {
+        let _ = writeln!(s, "    found: {}", a.finding);
+        let _ = writeln!(s, "    try: {}", a.advice);
+    }
+    let _ = writeln!(s, "  {}", st.ergodicity);
+}
+
+fn verdict_word(stationary: bool) -> &'static str {
+    if stationary {
+        "stationary"
+    } else {
+        "NOT stationary"
+    }
+}
+
+fn level_line(s: &mut String, label: &str, line: &LevelLine) {
+    use std::fmt::Write as _;
+    let ra = &line.reverse_arrangements;
+    let runs = &line.runs;
+    let bound = |b: Option<u64>| b.map_or("-".to_string(), |v| v.to_string());
+    let _ = writeln!(
+        s,
+        "  {label:<16} {:<14} reverse arrangements A = {} ({} < A <= {}: {}), runs r = {} ({} < r <= {}: {})",
+        verdict_word(line.stationary),
+        ra.statistic,
+        bound(ra.lower),
+        ra.upper,
+        if ra.accepted { "accept" } else { "reject" },
+        runs.statistic,
+        bound(runs.lower),
+        runs.upper,
+        if runs.accepted { "accept" } else { "reject" }
+    );
+    if !line.stationary {
+        let _ = writeln!(s, "    found: {}", line.finding);
+        let _ = writeln!(s, "    try: {}", line.advice);
+    }
+}
+
+/// A short human summary of an ensemble report.
+fn ensemble_summary(r: &EnsembleReport) -> String {
+    use std::fmt::Write as _;
+    let mut s = String::new();
+    let e = &r.ensemble;
+    let _ = writeln!(
+        s,
+        "Ensemble of {} records, {} aligned samples each ({:.6} s at {} Hz), unit {}",
+        r.records, r.samples, r.duration_s, r.sample_rate_hz, r.unit
+    );
+    let _ = writeln!(s, "Ergodicity: {}", e.verdict);
+    let row = |s: &mut String,
+               label: &str,
+               line: &noisesonde::stationarity::ensemble::ErgodicityLine,
+               unit: &str| {
+        let _ = writeln!(
+            s,
+            "  {label:<22} {:<11} ensemble average {:.6e} {unit}; F = {:.3} (critical {:.3}, p = {:.3e})",
+            if line.ergodic { "ergodic" } else { "NOT ergodic" },
+            line.ensemble_average,
+            line.anova.f_statistic,
+            line.anova.f_critical,
+            line.anova.p_value
+        );
+    };
+    row(&mut s, "mean", &e.mean, &r.units.amplitude);
+    row(&mut s, "mean square", &e.mean_square, &r.units.power);
+    for lag in &e.autocorrelation {
+        row(
+            &mut s,
+            &format!("R at lag {}", lag.lag_len),
+            &lag.line,
+            &r.units.power,
+        );
+    }
+    let _ = writeln!(
+        s,
+        "  variance across records {:.6e} {} vs within records {:.6e} {}",
+        e.variance_across_records, r.units.power, e.variance_within_records, r.units.power
+    );
+    let _ = writeln!(s, "Each record:");
+    for (source, st) in r.sources.iter().zip(&r.each_record) {
+        let _ = writeln!(s, "  {}: {}", source.name, st.verdict);
+    }
     s
 }
 

@@ -34,6 +34,7 @@ use crate::error::{AnalysisError, SettingsError};
 use crate::window::{WindowFigures, WindowKind};
 
 use super::confidence::welch_dof;
+use super::spectrogram::{ColumnParts, ColumnStore, Spectrogram, SpectrogramLayout};
 use crate::numeric::{median, sum_in_lanes};
 
 /// Default segment length in samples.
@@ -137,6 +138,7 @@ pub struct WelchPlan {
     figures: WindowFigures,
     overlap_len: usize,
     fft: Arc<dyn RealToComplex<f64>>,
+    layout: SpectrogramLayout,
 }
 
 impl fmt::Debug for WelchPlan {
@@ -178,12 +180,14 @@ impl WelchPlan {
             });
         }
         let fft = RealFftPlanner::<f64>::new().plan_fft_forward(segment_len);
+        let layout = SpectrogramLayout::new(segment_len / 2 + 1, segment_len.is_multiple_of(2));
         Ok(Self {
             settings: *settings,
             window,
             figures,
             overlap_len,
             fft,
+            layout,
         })
     }
 
@@ -313,41 +317,60 @@ impl SegmentTransform {
     }
 }
 
-/// Per-thread buffers: one segment's transform, and the sums of |X[k]|² over the segments it
-/// processed.
+/// Per-thread buffers: one segment's transform, the sums of |X[k]|² over the segments it
+/// processed, and their spectrogram rows by column.
 #[derive(Clone)]
 struct SegmentWorker {
     transform: SegmentTransform,
     sum_power: Vec<f64>,
     /// Every processed segment's |X[k]|² in order (median averaging only).
     stored_power: Vec<f64>,
+    columns: ColumnParts,
 }
 
 impl SegmentWorker {
-    fn new(plan: &WelchPlan) -> Self {
+    /// Buffers for shares of up to `max_segments` segments.
+    fn new(plan: &WelchPlan, max_segments: usize) -> Self {
         Self {
             transform: SegmentTransform::new(plan),
             sum_power: vec![0.0; plan.bins()],
             stored_power: Vec::new(),
+            columns: ColumnParts::new(plan.layout.rows(), max_segments),
         }
     }
 
-    /// Processes the segments starting at `starts` (offsets into `samples`) into fresh sums.
-    fn run(&mut self, plan: &WelchPlan, samples: &[f64], starts: std::ops::Range<usize>) {
+    /// Processes the segments starting at `starts` (offsets into `samples`) into fresh sums;
+    /// `first_index` is the record's index of the batch's first segment, and spectrogram rows
+    /// are grouped `per_column` segments to a column.
+    fn run(
+        &mut self,
+        plan: &WelchPlan,
+        samples: &[f64],
+        starts: std::ops::Range<usize>,
+        first_index: u64,
+        per_column: u64,
+    ) {
         self.sum_power.fill(0.0);
         self.stored_power.clear();
+        self.columns.reset(per_column);
         let len = plan.segment_len();
         for index in starts {
             let start = index * plan.step_len();
-            self.segment(plan, &samples[start..start + len]);
+            self.segment(
+                plan,
+                &samples[start..start + len],
+                first_index + index as u64,
+            );
         }
     }
 
-    fn segment(&mut self, plan: &WelchPlan, seg: &[f64]) {
+    fn segment(&mut self, plan: &WelchPlan, seg: &[f64], index: u64) {
         let spectrum = self.transform.spectrum(plan, seg);
         for (acc, x) in self.sum_power.iter_mut().zip(spectrum) {
             *acc += x.norm_sqr();
         }
+        plan.layout
+            .add_segment(self.columns.slot_for(index), |bin| spectrum[bin].norm_sqr());
         if plan.settings.average == Average::Median {
             self.stored_power
                 .extend(spectrum.iter().map(|x| x.norm_sqr()));
@@ -386,6 +409,7 @@ pub struct Welch {
     /// Every segment's |X[k]|², segment after segment (median averaging only).
     stored_power: Vec<f64>,
     segments: usize,
+    columns: ColumnStore,
 }
 
 impl fmt::Debug for Welch {
@@ -426,7 +450,7 @@ impl Welch {
         let step = plan.step_len();
         let batch_segments = (BATCH_TARGET_LEN / step).clamp(2, BATCH_MAX_SEGMENTS);
         let batch_len = (batch_segments - 1) * step + plan.segment_len();
-        let worker = SegmentWorker::new(&plan);
+        let worker = SegmentWorker::new(&plan, batch_segments.div_ceil(2));
         Self {
             pending: vec![0.0; batch_len],
             filled: 0,
@@ -435,6 +459,7 @@ impl Welch {
             sum_power: vec![0.0; plan.bins()],
             stored_power: Vec::new(),
             segments: 0,
+            columns: ColumnStore::new(plan.layout.rows()),
             plan,
         }
     }
@@ -490,29 +515,31 @@ impl Welch {
         let half = count / 2;
         let plan = &self.plan;
         let samples = &self.pending[..];
+        let (index, per_column) = (self.segments as u64, self.columns.per_column());
         let [first, second] = &mut self.workers;
         #[cfg(not(target_arch = "wasm32"))]
         {
             if count * plan.segment_len() >= THREAD_MIN_WORK {
                 std::thread::scope(|scope| {
-                    scope.spawn(|| second.run(plan, samples, half..count));
-                    first.run(plan, samples, 0..half);
+                    scope.spawn(|| second.run(plan, samples, half..count, index, per_column));
+                    first.run(plan, samples, 0..half, index, per_column);
                 });
             } else {
-                first.run(plan, samples, 0..half);
-                second.run(plan, samples, half..count);
+                first.run(plan, samples, 0..half, index, per_column);
+                second.run(plan, samples, half..count, index, per_column);
             }
         }
         #[cfg(target_arch = "wasm32")]
         {
-            first.run(plan, samples, 0..half);
-            second.run(plan, samples, half..count);
+            first.run(plan, samples, 0..half, index, per_column);
+            second.run(plan, samples, half..count, index, per_column);
         }
         for worker in &self.workers {
             for (acc, s) in self.sum_power.iter_mut().zip(&worker.sum_power) {
                 *acc += s;
             }
             self.stored_power.extend_from_slice(&worker.stored_power);
+            self.columns.add(&worker.columns);
         }
         self.segments += count;
         Ok(())
@@ -522,6 +549,16 @@ impl Welch {
     /// Returns `None` before the first whole segment. Leaves the estimator untouched, so
     /// pushing may continue (live use).
     pub fn finish(&self, sample_rate_hz: f64) -> Option<WelchResult> {
+        self.finish_with_spectrogram(sample_rate_hz)
+            .map(|(result, _)| result)
+    }
+
+    /// [`Welch::finish`] and the spectrogram of the same segments (see
+    /// [`spectrogram`](super::spectrogram)).
+    pub fn finish_with_spectrogram(
+        &self,
+        sample_rate_hz: f64,
+    ) -> Option<(WelchResult, Spectrogram)> {
         let waiting = self.plan.segments_in(self.filled as u64) as usize;
         if waiting > 0 {
             let mut state = self.clone();
@@ -532,7 +569,7 @@ impl Welch {
         self.finish_processed(sample_rate_hz)
     }
 
-    fn finish_processed(&self, sample_rate_hz: f64) -> Option<WelchResult> {
+    fn finish_processed(&self, sample_rate_hz: f64) -> Option<(WelchResult, Spectrogram)> {
         if self.segments == 0 {
             return None;
         }
@@ -570,7 +607,14 @@ impl Welch {
             .map(|(bin, p)| p * spectrum_scale * one_sided(bin))
             .collect();
         let bin_width_hz = sample_rate_hz / segment_len as f64;
-        Some(WelchResult {
+        let spectrogram = self.columns.finish(
+            &plan.layout,
+            density_scale,
+            bin_width_hz,
+            plan.step_len() as f64 / sample_rate_hz,
+            segment_len as f64 / sample_rate_hz,
+        )?;
+        let result = WelchResult {
             frequency_hz: (0..bins).map(|bin| bin as f64 * bin_width_hz).collect(),
             density,
             power_spectrum,
@@ -580,7 +624,8 @@ impl Welch {
             segments: k,
             overlap_len: plan.overlap_len,
             dof: welch_dof(&plan.window, plan.step_len(), k),
-        })
+        };
+        Some((result, spectrogram))
     }
 }
 

@@ -61,4 +61,12 @@ def write_wav(wav_write_tool):
         data = np.asarray(samples, dtype="<f8").tobytes()
         proc = subprocess.run(args, input=data, capture_output=True, timeout=120)
         return proc.returncode, proc.stdout, proc.stderr.decode()
+
+
+@pytest.fixture
+def noisesonde_command(binary):
+    """Runs any subcommand: noisesonde_command("ensemble", a, b, "--json", "-")."""
+    def run(*args):
+        proc = subprocess.run([binary, *map(str, args)], capture_output=True, text=True, timeout=300)
+        return Run(proc)
     return run

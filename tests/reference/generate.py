@@ -3,8 +3,12 @@
 
 Writes (into the folder given as the first argument, default: this script's folder):
   inputs/<name>.f64   input signals, little-endian float64
-  vectors.json        scipy.signal.welch / numpy autocorrelation / scipy.stats.chi2 results, and
-                      the live spectrum's cases (welch over single segments and the last N)
+  vectors.json        scipy.signal.welch / numpy autocorrelation / scipy.stats.chi2 results;
+                      the live spectrum's cases (welch over single segments and the last N);
+                      stationarity: exact reverse-arrangement and runs bounds (Python's exact
+                      integers and fractions), segment statistics and stretch autocorrelations
+                      (numpy), spectrogram columns (scipy.signal.spectrogram), one-way analysis
+                      of variance (scipy.stats.f_oneway, scipy.stats.f)
 
 The inputs come from a 64-bit linear congruential generator in integer arithmetic (constants
 of Knuth's MMIX LCG, from memory), so they do not depend on numpy's random streams; tones use
@@ -17,6 +21,7 @@ import json
 import math
 import os
 import sys
+from fractions import Fraction
 
 import numpy as np
 import scipy
@@ -192,6 +197,188 @@ def window_figures(n):
     return out
 
 
+# ---------------------------------------------------------------- stationarity
+# Written independently of the Rust code, from the definitions (Bendat & Piersol, Random Data,
+# 4th ed. 2010, chapter 4; Wald & Wolfowitz 1940; Kendall 1938): exact integer/fraction
+# arithmetic for the null distributions, numpy for the statistics.
+
+RA_LENGTHS = list(range(10, 41)) + [45, 50, 60, 70, 80, 90, 100, 150, 200, 300, 399]
+RUNS_PAIRS = [(n, n) for n in list(range(5, 41)) + [45, 50, 60, 70, 80, 90, 100, 150, 199]] + \
+             [(3, 4), (5, 9), (7, 12), (10, 4), (15, 16), (19, 20), (30, 12)]
+ALPHAS = [0.01, 0.02, 0.05, 0.1, 0.2]
+
+
+def mahonian_rows(lengths):
+    """Inversion counts of permutations: I_n(a) by I_n(a) = sum_{j<n} I_{n-1}(a-j) (exact ints)."""
+    wanted = set(lengths)
+    rows = {}
+    c = [1]
+    for m in range(2, max(lengths) + 1):
+        new = [0] * (len(c) + m - 1)
+        window = 0
+        for a in range(len(new)):
+            if a < len(c):
+                window += c[a]
+            if a - m >= 0:
+                window -= c[a - m]
+            new[a] = window
+        c = new
+        if m in wanted:
+            rows[m] = c
+    return rows
+
+
+def bounds_from_counts(counts, total, alpha):
+    """lower = largest a with P[A <= a] <= alpha/2 (None if none), upper = smallest a with
+    P[A > a] <= alpha/2; and the exact probability of rejection."""
+    tail = Fraction(alpha).limit_denominator(10 ** 6) / 2
+    # count/total <= tail  <=>  count * tail.denominator <= total * tail.numerator (exact)
+    limit = total * tail.numerator
+    lower, cum = None, 0
+    for a, v in enumerate(counts):
+        cum += v
+        if cum * tail.denominator <= limit:
+            lower = a
+        else:
+            break
+    above = total
+    upper = None
+    for a, v in enumerate(counts):
+        above -= v
+        if above * tail.denominator <= limit:
+            upper = a
+            break
+    rejected = (sum(counts[: lower + 1]) if lower is not None else 0) + sum(counts[upper + 1:])
+    return lower, upper, float(Fraction(rejected, total))
+
+
+def runs_counts(n1, n2):
+    """Numerators of the exact runs pmf over the common denominator C(n1+n2, n1)."""
+    total = math.comb(n1 + n2, n1)
+    counts = [0] * (n1 + n2 + 1)
+    for r in range(2, n1 + n2 + 1):
+        if r % 2 == 0:
+            k = r // 2
+            counts[r] = 2 * math.comb(n1 - 1, k - 1) * math.comb(n2 - 1, k - 1)
+        else:
+            k = (r - 1) // 2
+            counts[r] = (math.comb(n1 - 1, k) * math.comb(n2 - 1, k - 1)
+                         + math.comb(n1 - 1, k - 1) * math.comb(n2 - 1, k))
+    assert sum(counts) == total
+    return counts, total
+
+
+def exact_bounds():
+    ra = []
+    rows = mahonian_rows(RA_LENGTHS)
+    for n in RA_LENGTHS:
+        counts = rows[n]
+        total = math.factorial(n)
+        for alpha in ALPHAS:
+            lower, upper, size = bounds_from_counts(counts, total, alpha)
+            ra.append({"n": n, "alpha": alpha, "lower": lower, "upper": upper, "size": size})
+    runs = []
+    for n1, n2 in RUNS_PAIRS:
+        counts, total = runs_counts(n1, n2)
+        mean = Fraction(sum(r * c for r, c in enumerate(counts)), total)
+        var = Fraction(sum(r * r * c for r, c in enumerate(counts)), total) - mean * mean
+        for alpha in ALPHAS:
+            lower, upper, size = bounds_from_counts(counts, total, alpha)
+            runs.append({"above": n1, "below": n2, "alpha": alpha, "lower": lower, "upper": upper,
+                         "size": size, "mean": float(mean), "variance": float(var)})
+    return ra, runs
+
+
+def segmentation(n, segments, max_lag):
+    """Segment length and count: b = smallest b0 * 2^j with floor(n / b) < 2M, b0 the smallest
+    power of two >= max(K, 1) (the rule documented in src/stationarity/segments.rs)."""
+    b = 1
+    while b < max(max_lag, 1):
+        b *= 2
+    while n // b >= 2 * segments:
+        b *= 2
+    return b, n // b
+
+
+def runs_about_median(v):
+    med = np.median(v)
+    marks = [bool(x > med) for x in v if x != med]
+    runs = 1 + sum(1 for a, b in zip(marks, marks[1:]) if a != b) if marks else 0
+    return runs, sum(marks), len(marks) - sum(marks), float(med)
+
+
+def stationarity_case(x, fs, segments, max_lag, stretches):
+    b, count = segmentation(len(x), segments, max_lag)
+    seg = x[: count * b].reshape(count, b)
+    means, squares, variances = seg.mean(axis=1), (seg ** 2).mean(axis=1), seg.var(axis=1)
+    out = {"segment_len": b, "count": count, "mean": means.tolist(), "mean_square": squares.tolist(),
+           "variance": variances.tolist()}
+    for name, v in (("mean", means), ("mean_square", squares)):
+        inversions = int(sum(np.sum(v[i] > v[i + 1:]) for i in range(len(v))))
+        runs, above, below, med = runs_about_median(v)
+        out[name + "_tests"] = {"inversions": inversions, "runs": runs, "above": above,
+                                "below": below, "median": med}
+    coefficients = []
+    for j in range(stretches):
+        first, end = j * count // stretches, (j + 1) * count // stretches
+        a, e = first * b, end * b
+        mu = x[a:e].mean()
+        c = []
+        for k in range(max_lag + 1):
+            m = np.arange(max(a, k), e)
+            c.append(float(np.sum((x[m - k] - mu) * (x[m] - mu)) / (e - a)))
+        coefficients.append([ck / c[0] for ck in c])
+    out["coefficient_by_stretch"] = coefficients
+    return out
+
+
+def spectrogram_case(x, fs, window, seg, overlap, max_rows=256, max_columns=256):
+    """Columns of p Welch segments (p doubling whenever max_columns columns are complete, so
+    complete columns end between max_columns/2 and max_columns - 1, plus a last partial one),
+    rows of g = ceil(bins/max_rows) adjacent bins, from scipy.signal.spectrogram's per-segment
+    one-sided densities."""
+    noverlap = min(int(math.floor(overlap * seg + 1e-9)), seg - 1)
+    w = periodic_window(window, seg)
+    f, t, sxx = signal.spectrogram(x, fs=fs, window=w, nperseg=seg, noverlap=noverlap,
+                                   detrend="constant", scaling="density", mode="psd")
+    bins, k = sxx.shape
+    p = 1
+    while k // p >= max_columns:
+        p *= 2
+    columns = [sxx[:, c * p:(c + 1) * p].mean(axis=1) for c in range((k + p - 1) // p)]
+    g = -(-bins // max_rows)
+    rows = -(-bins // g)
+    density = []
+    for col in columns:
+        density.extend(float(col[r * g:(r + 1) * g].mean()) for r in range(rows))
+    step = seg - noverlap
+    return {"window": window, "segment_len": seg, "overlap_frac": overlap, "segments": k,
+            "segments_per_column": p, "bins_per_row": g, "rows": rows, "columns": len(columns),
+            "frequency_hz": [float(f[r * g:(r + 1) * g].mean()) for r in range(rows)],
+            "start_s": [c * p * step / fs for c in range(len(columns))],
+            "density": density,
+            "call": "scipy.signal.spectrogram(x, fs, window=<periodic array>, nperseg, noverlap, detrend='constant', scaling='density', mode='psd')"}
+
+
+def anova_cases():
+    cases = []
+    for seed, groups, size, shift in [(5, 3, 20, 0.0), (6, 4, 32, 0.3), (7, 2, 10, 1.0), (8, 8, 25, 0.05)]:
+        u = lcg_uniform(groups * size, seed).reshape(groups, size)
+        data = [(u[i] + shift * i).tolist() for i in range(groups)]
+        f, p = stats.f_oneway(*[np.array(g) for g in data])
+        dfb, dfw = groups - 1, groups * (size - 1)
+        cases.append({"groups": data, "f_statistic": float(f), "p_value": float(p),
+                      "dof_between": dfb, "dof_within": dfw,
+                      "f_critical_0.05": float(stats.f.ppf(0.95, dfb, dfw)),
+                      "f_critical_0.01": float(stats.f.ppf(0.99, dfb, dfw)),
+                      "call": "scipy.stats.f_oneway(*groups); scipy.stats.f.ppf(1 - alpha, dfb, dfw)"})
+    return cases
+
+
+STATIONARITY_CASES = [("white", 20, 32, 4), ("mixed", 20, 32, 4), ("odd", 10, 7, 3), ("mixed", 12, 100, 5)]
+SPECTROGRAM_CASES = [("white", "hann", 60, 0.5), ("mixed", "hann", 1024, 0.75), ("odd", "hamming", 777, 0.5)]
+
+
 def main():
     folder = sys.argv[1] if len(sys.argv) > 1 else os.path.dirname(os.path.abspath(__file__))
     os.makedirs(os.path.join(folder, "inputs"), exist_ok=True)
@@ -236,6 +423,24 @@ def main():
             doc["chi2"].append({"dof": dof, "level": level,
                                 "ppf_low": float(stats.chi2.ppf(a / 2, dof)),
                                 "ppf_high": float(stats.chi2.ppf(1 - a / 2, dof))})
+    ra, runs = exact_bounds()
+    doc["stationarity"] = {
+        "reverse_arrangements_bounds": ra,
+        "runs_bounds": runs,
+        "cases": [],
+        "spectrograms": [],
+        "anova": anova_cases(),
+    }
+    for name, segments, max_lag, stretches in STATIONARITY_CASES:
+        x, fs = inputs[name]
+        case = {"input": name, "segments": segments, "max_lag_len": max_lag, "stretches": stretches}
+        case.update(stationarity_case(x, fs, segments, max_lag, stretches))
+        doc["stationarity"]["cases"].append(case)
+    for name, window, seg, overlap in SPECTROGRAM_CASES:
+        x, fs = inputs[name]
+        case = {"input": name}
+        case.update(spectrogram_case(x, fs, window, seg, overlap))
+        doc["stationarity"]["spectrograms"].append(case)
     with open(os.path.join(folder, "vectors.json"), "w") as fh:
         json.dump(doc, fh, indent=0, sort_keys=True)
         fh.write("\n")
