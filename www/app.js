@@ -3,7 +3,7 @@
 // No signal processing here: numbers come from the Rust pipeline (worker) and plots are drawn
 // by Rust (ReportView) on the canvases.
 import init, { ReportView } from './pkg/noisesonde.js';
-import { MSG } from './protocol.js';
+import { MSG, rejoinArrays } from './protocol.js';
 import { wasmBytes, createWorker, demoFile, captureWorkletUrl } from './platform.js';
 import { initLive } from './live.js';
 import { byId, download } from './dom.js';
@@ -38,6 +38,18 @@ const $ = {
   average: /** @type {HTMLSelectElement} */ (byId('average')),
   maxLag: /** @type {HTMLInputElement} */ (byId('max-lag')),
   confidence: /** @type {HTMLInputElement} */ (byId('confidence')),
+  statSegments: /** @type {HTMLInputElement} */ (byId('stat-segments')),
+  statAlpha: /** @type {HTMLInputElement} */ (byId('stat-alpha')),
+  statVerdict: byId('stationarity-verdict'),
+  statTable: /** @type {HTMLTableElement} */ (byId('stationarity-table')),
+  statErgodicity: byId('stationarity-ergodicity'),
+  ensembleInput: /** @type {HTMLInputElement} */ (byId('ensemble-input')),
+  ensembleResults: byId('ensemble-results'),
+  ensembleVerdict: byId('ensemble-verdict'),
+  ensembleTable: /** @type {HTMLTableElement} */ (byId('ensemble-table')),
+  segmentsCanvas: /** @type {HTMLCanvasElement} */ (byId('segments-canvas')),
+  stretchesCanvas: /** @type {HTMLCanvasElement} */ (byId('stretches-canvas')),
+  spectrogramCanvas: /** @type {HTMLCanvasElement} */ (byId('spectrogram-canvas')),
   scale: /** @type {HTMLInputElement} */ (byId('scale')),
   unit: /** @type {HTMLInputElement} */ (byId('unit')),
   share: /** @type {HTMLAnchorElement} */ (byId('share-link')),
@@ -99,6 +111,9 @@ function onWorkerMessage(event) {
   } else if (msg.type === MSG.RESULT) {
     finishRun();
     showReport(msg.summary, msg.arrays);
+  } else if (msg.type === MSG.ENSEMBLE_RESULT) {
+    finishRun();
+    showEnsemble(msg.reportJson);
   } else if (msg.type === MSG.ERROR) {
     finishRun();
     showError(msg.message);
@@ -146,6 +161,56 @@ function analyze(file) {
   $.progressBar.value = 0;
   $.progressText.textContent = `reading ${file.name}…`;
   worker.postMessage({ type: MSG.ANALYZE, id, file, input: readInput(), settings: readSettings() });
+}
+
+/** @param {File[]} files */
+function analyzeEnsemble(files) {
+  const id = ++state.requestId;
+  state.running = { id, started: performance.now() };
+  hideError();
+  $.progress.hidden = false;
+  $.progressBar.value = 0;
+  $.progressText.textContent = `reading ${files.length} recordings…`;
+  worker.postMessage({ type: MSG.ANALYZE_ENSEMBLE, id, files, input: readInput(), settings: readSettings() });
+}
+
+/**
+ * The ensemble verdict: for the mean, the mean square and R at each lag, whether the records'
+ * time averages agree with each other (and so with the ensemble average) within their spread.
+ * @param {string} json
+ */
+function showEnsemble(json) {
+  const e = JSON.parse(json).ensemble;
+  $.ensembleVerdict.textContent = e.verdict;
+  $.ensembleVerdict.classList.toggle('fails', !(e.mean.ergodic && e.mean_square.ergodic));
+  const unit = JSON.parse(json).unit;
+  /** @type {[string, string, any][]} */
+  const lines = [['mean (DC level)', 'ensemble.mean', e.mean], ['mean square (power)', 'ensemble.mean_square', e.mean_square],
+    ...e.autocorrelation.map((/** @type {any} */ l, /** @type {number} */ i) => /** @type {[string, string, any]} */ ([`R at lag ${formatNumber(l.lag_s)} s`, `ensemble.autocorrelation.${i}`, l]))];
+  $.ensembleTable.tBodies[0].replaceChildren(...lines.map(([name, path, line]) => {
+    const tr = document.createElement('tr');
+    const th = document.createElement('th');
+    th.scope = 'row';
+    th.append(name, document.createElement('br'), line.finding);
+    const judged = document.createElement('td');
+    const flag = document.createElement('span');
+    flag.dataset.quantity = `${path}.ergodic`;
+    flag.dataset.value = line.ergodic ? '1' : '0';
+    flag.textContent = line.ergodic ? 'ergodic' : 'NOT ergodic';
+    judged.className = line.ergodic ? 'judged-yes' : 'judged-no';
+    judged.append(flag);
+    const average = document.createElement('td');
+    average.append(quantity(`${path}.ensemble_average`, line.ensemble_average, path.endsWith('mean') ? unit : `${unit}^2`));
+    const each = document.createElement('td');
+    each.textContent = line.time_averages.map((/** @type {number} */ v, /** @type {number} */ i) => `${formatNumber(v)} ± ${formatNumber(line.standard_errors[i])}`).join('; ');
+    const f = document.createElement('td');
+    f.append(quantity(`${path}.anova.f_statistic`, line.anova.f_statistic), ` (${formatNumber(line.anova.f_critical)})`);
+    const p = document.createElement('td');
+    p.append(quantity(`${path}.anova.p_value`, line.anova.p_value));
+    tr.append(th, judged, average, each, f, p);
+    return tr;
+  }));
+  $.ensembleResults.hidden = false;
 }
 
 function finishRun() {
@@ -205,6 +270,7 @@ function readSettings() {
     acf_estimator: 'biased',
     calibration: { scale_units_per_fs: Number($.scale.value), unit: unit === '' ? null : unit },
     confidence_level: Number($.confidence.value),
+    stationarity: { segments: Number($.statSegments.value), alpha: Number($.statAlpha.value) },
   };
 }
 
@@ -212,6 +278,7 @@ function readSettings() {
 const FRAGMENT_FIELDS = {
   window: $.window, beta: $.kaiserBeta, segment: $.segment, overlap: $.overlap, detrend: $.detrend,
   average: $.average, maxlag: $.maxLag, confidence: $.confidence, scale: $.scale, unit: $.unit,
+  m: $.statSegments, alpha: $.statAlpha,
   psd: $.psdMode, acf: $.acfMode,
 };
 
@@ -292,11 +359,7 @@ function showReport(summary, arrays) {
   state.view?.free();
   state.view = view;
   // The page reads scalars from the summary and the few array entries it shows from the arrays.
-  const r = JSON.parse(summary);
-  for (const [path, values] of Object.entries(arrays)) {
-    const [section, field] = path.split('.');
-    r[section][field] = values;
-  }
+  const r = rejoinArrays(JSON.parse(summary), arrays);
   state.report = r;
   $.sourceLine.textContent = `${r.source.name}: ${r.source.format}, channel ${r.channel}${r.source.channel_name ? ` (${r.source.channel_name})` : ''} of ${r.source.channels}`;
   listChannels(r.source.channels, r.channel, r.source.channel_names);
@@ -304,6 +367,7 @@ function showReport(summary, arrays) {
   renderRunLine(r);
   renderWarnings(r.warnings);
   renderQuantities($.quantities, r);
+  renderStationarity(r);
   $.results.hidden = false;
   updateDerived();
   drawPlots();
@@ -382,6 +446,83 @@ function renderQuantities(table, r) {
     tr.append(th, tdValue, tdUnit, tdMeaning);
     return tr;
   }));
+}
+
+/**
+ * The stationarity verdict and its evidence: each line with both tests' statistics and
+ * acceptance intervals (never a bare tick), what a failure would mean, and what to try.
+ * @param {any} r
+ */
+function renderStationarity(r) {
+  const s = r.stationarity;
+  const body = $.statTable.tBodies[0];
+  if (!s) {
+    $.statVerdict.textContent = 'No stationarity tests: the record is too short for the chosen number of segments (see the warnings).';
+    $.statVerdict.classList.remove('fails');
+    body.replaceChildren();
+    $.statErgodicity.textContent = '';
+    return;
+  }
+  $.statVerdict.replaceChildren(s.verdict);
+  const fails = !(s.mean.stationary && s.mean_square.stationary && s.autocorrelation.stationary);
+  $.statVerdict.classList.toggle('fails', fails);
+  /** @type {HTMLTableRowElement[]} */
+  const rows = [];
+  const cell = (/** @type {(string | Node)[]} */ ...parts) => {
+    const td = document.createElement('td');
+    td.append(...parts);
+    return td;
+  };
+  const judged = (/** @type {string} */ path, /** @type {boolean} */ ok) => {
+    const span = document.createElement('span');
+    span.dataset.quantity = path;
+    span.dataset.value = ok ? '1' : '0';
+    span.textContent = ok ? 'stationary' : 'NOT stationary';
+    const td = cell(span);
+    td.className = ok ? 'judged-yes' : 'judged-no';
+    return td;
+  };
+  for (const [name, key] of [['mean (DC level)', 'mean'], ['mean square (power)', 'mean_square']]) {
+    const line = s[key];
+    const tests = [['reverse arrangements', 'reverse_arrangements', 'A'], ['runs about the median', 'runs', 'r']];
+    tests.forEach(([testName, testKey, symbol], i) => {
+      const t = line[testKey];
+      const tr = document.createElement('tr');
+      if (i === 0) {
+        const th = document.createElement('th');
+        th.scope = 'row';
+        th.rowSpan = 2;
+        th.append(name, document.createElement('br'), line.finding, document.createElement('br'), `If not: ${line.advice}.`);
+        tr.append(th, judged(`stationarity.${key}.stationary`, line.stationary));
+      } else {
+        tr.append(cell(''));
+      }
+      tr.append(
+        cell(`${testName} (${t.accepted ? 'accepts' : 'rejects'})`),
+        cell(`${symbol} = `, quantity(`stationarity.${key}.${testKey}.statistic`, t.statistic)),
+        cell(`${t.lower} < ${symbol} ≤ ${t.upper} (exact, α = ${s.alpha})`),
+        cell(t.meaning),
+      );
+      rows.push(tr);
+    });
+  }
+  const a = s.autocorrelation;
+  const c = a.comparison;
+  const tr = document.createElement('tr');
+  const th = document.createElement('th');
+  th.scope = 'row';
+  th.append('autocorrelation (a function of lag alone)', document.createElement('br'), a.finding, document.createElement('br'), `If not: ${a.advice}.`);
+  tr.append(
+    th,
+    judged('stationarity.autocorrelation.stationary', a.stationary),
+    cell(`${c.stretches} stretches against the pooled curve, Bartlett standard errors`),
+    cell('largest deviation ', quantity('stationarity.autocorrelation.comparison.largest_deviation', c.largest_deviation), ' standard errors'),
+    cell('below ', quantity('stationarity.autocorrelation.comparison.threshold', c.threshold)),
+    cell(c.meaning),
+  );
+  rows.push(tr);
+  body.replaceChildren(...rows);
+  $.statErgodicity.textContent = `${s.ergodicity} Segments: ${s.segments.count} of ${formatNumber(s.segments.segment_s)} s.`;
 }
 
 // ---------------------------------------------------------------- plots and cursors
@@ -545,6 +686,15 @@ async function main() {
     analyze(file);
   };
   $.channel.addEventListener('change', () => { if (state.file) analyze(state.file); });
+  $.ensembleInput.addEventListener('change', () => {
+    const files = [...($.ensembleInput.files ?? [])];
+    if (files.length < 2) {
+      showError('Ergodicity needs two or more recordings of the same process: one record cannot show it. Choose several files at once.');
+      return;
+    }
+    dropDemoCalibration();
+    analyzeEnsemble(files);
+  });
   $.layoutApply.addEventListener('click', () => { if (state.file) analyze(state.file); });
   for (const input of [$.rawFormat, $.rawChannels]) {
     input.addEventListener('change', () => {

@@ -2,7 +2,7 @@
 // Live listening on the main thread: asks for the microphone with the browser's processing off,
 // shows what the browser actually granted, starts the capture worklet and a live worker, and
 // draws the frames the worker sends. No signal processing here.
-import { MSG } from './protocol.js';
+import { MSG, rejoinArrays } from './protocol.js';
 import { byId, download } from './dom.js';
 
 /** Processing the browser may apply to a capture; all asked off. */
@@ -388,11 +388,7 @@ export function initLive(deps) {
     }
     session.view?.free();
     session.view = view ?? null;
-    const report = JSON.parse(frame.summary);
-    for (const [path, values] of Object.entries(frame.arrays)) {
-      const [section, field] = path.split('.');
-      if (report[section]) report[section][field] = values;
-    }
+    const report = rejoinArrays(JSON.parse(frame.summary), frame.arrays);
     const live = JSON.parse(frame.live);
     renderStatus(report, live);
     renderTone(report, live);

@@ -5,8 +5,10 @@
  *
  * page → worker: { type: 'init', module }   (the compiled WebAssembly.Module, compiled once)
  *                { type: 'analyze', id, file, input, settings }
+ *                { type: 'analyze-ensemble', id, files, input, settings }   (K ≥ 2 records)
  * worker → page: { type: 'ready' }
  *                { type: 'progress', id, bytes, total }
+ *                { type: 'ensemble-result', id, reportJson }   (the CLI's `ensemble --json`)
  *                { type: 'result', id, summary, arrays }   (summary: the report's JSON without
  *                  its long arrays; arrays: { 'psd.density': Float64Array, … }, transferred)
  *                { type: 'error', id, message, kind }   (kind: 'layout' | 'sample_rate' |
@@ -33,6 +35,8 @@
 export const MSG = Object.freeze({
   INIT: 'init',
   ANALYZE: 'analyze',
+  ANALYZE_ENSEMBLE: 'analyze-ensemble',
+  ENSEMBLE_RESULT: 'ensemble-result',
   READY: 'ready',
   PROGRESS: 'progress',
   RESULT: 'result',
@@ -49,3 +53,19 @@ export const MSG = Object.freeze({
 /** Time between two live frames, ms: 25 frames per second while blocks arrive (the target is
  * 20 or more; blocks arrive every ~21 ms, so frames land within a block of their time). */
 export const FRAME_MS = 40;
+
+/**
+ * Puts the transferred arrays back into the parsed summary at their dotted paths
+ * ('psd.density', 'stationarity.segments.mean', …). Paths whose parent the report lacks (no
+ * stationarity section) are skipped; extra arrays (the live peak hold) stay in `arrays` only.
+ * @param {any} report @param {Record<string, Float64Array>} arrays
+ */
+export function rejoinArrays(report, arrays) {
+  for (const [path, values] of Object.entries(arrays)) {
+    const keys = path.split('.');
+    const last = keys.pop();
+    const parent = keys.reduce((node, key) => (node && typeof node === 'object' ? node[key] : undefined), report);
+    if (parent && typeof parent === 'object' && last && last in parent) parent[last] = values;
+  }
+  return report;
+}

@@ -4,7 +4,7 @@
 // The page compiles the wasm once and sends the module, so this file needs no network access.
 // A second instance of this worker serves live listening: blocks arrive from the capture
 // worklet on a MessagePort and go into the same pipeline (LiveSession); frames go to the page.
-import init, { analyze_file, LiveSession } from './pkg/noisesonde.js';
+import init, { analyze_file, analyze_ensemble_files, LiveSession } from './pkg/noisesonde.js';
 import { MSG, FRAME_MS } from './protocol.js';
 
 /** @type {LiveSession | null} */
@@ -103,6 +103,23 @@ self.onmessage = async (event) => {
     } catch (err) {
       const message = err instanceof Error ? err.message : String(err);
       self.postMessage({ type: MSG.ERROR, id: msg.id ?? -2, message });
+    }
+    return;
+  }
+  if (msg.type === MSG.ANALYZE_ENSEMBLE) {
+    try {
+      if (!ready) throw new Error('the analysis engine was not started');
+      await ready;
+      const reportJson = analyze_ensemble_files(
+        msg.files,
+        JSON.stringify(msg.input),
+        JSON.stringify(msg.settings),
+        (/** @type {number} */ bytes, /** @type {number} */ total) =>
+          self.postMessage({ type: MSG.PROGRESS, id: msg.id, bytes, total }),
+      );
+      self.postMessage({ type: MSG.ENSEMBLE_RESULT, id: msg.id, reportJson });
+    } catch (err) {
+      self.postMessage({ type: MSG.ERROR, id: msg.id, message: err instanceof Error ? err.message : String(err) });
     }
     return;
   }

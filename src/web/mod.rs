@@ -18,6 +18,7 @@ use std::str::FromStr;
 
 use serde::Deserialize;
 use wasm_bindgen::prelude::*;
+use wasm_bindgen::JsCast;
 
 use crate::analysis::{analyze, Settings};
 use crate::io::{ColumnSelector, InputOptions, RawFormat, ReadError};
@@ -96,6 +97,77 @@ fn read_error(error: ReadError) -> JsValue {
         let _ = js_sys::Reflect::set(&value, &JsValue::from_str("kind"), &JsValue::from_str(kind));
     }
     value
+}
+
+/// Analyses K `File`s as realisations of one process (ergodicity) and returns the ensemble
+/// report as JSON text (`serde_json::to_string` of
+/// [`EnsembleReport`](crate::ensemble_analysis::EnsembleReport), the command line's
+/// `ensemble --json`). The files are read in lockstep, each in 4 MiB slices;
+/// `on_progress(bytes_read, total_bytes)` counts all of them.
+///
+/// `input_json` as for [`analyze_file`] (the same layout for every file); `settings_json` is
+/// the file settings, of which the calibration and the stationarity settings are used.
+///
+/// # Errors
+/// Fewer than two files, unreadable input (the message names the file), mismatched sample
+/// rates, or a failed analysis.
+#[wasm_bindgen]
+pub fn analyze_ensemble_files(
+    files: js_sys::Array,
+    input_json: &str,
+    settings_json: &str,
+    on_progress: &js_sys::Function,
+) -> Result<String, JsValue> {
+    let options = parse_input(input_json).map_err(|e| JsError::new(&e))?;
+    let settings = parse_settings(settings_json).map_err(|e| JsError::new(&e))?;
+    let ensemble_settings = crate::ensemble_analysis::EnsembleSettings {
+        calibration: settings.calibration.clone(),
+        stationarity: settings.stationarity,
+        lags_len: None,
+    };
+    let files: Vec<web_sys::File> = files
+        .iter()
+        .map(|f| f.dyn_into::<web_sys::File>())
+        .collect::<Result<_, _>>()
+        .map_err(|_| JsError::new("the ensemble must be a list of files"))?;
+    let total: f64 = files.iter().map(|f| f.size()).sum();
+    let progress = std::rc::Rc::new(std::cell::Cell::new(0.0f64));
+    let mut sources = Vec::with_capacity(files.len());
+    // The progress closures live until the analysis is over, then are dropped with this Vec.
+    let mut closures = Vec::with_capacity(files.len());
+    for file in files {
+        let name = file.name();
+        let counted = progress.clone();
+        let callback = on_progress.clone();
+        let previous = std::rc::Rc::new(std::cell::Cell::new(0.0f64));
+        // Each file reports its own bytes; the page sees the sum over all files.
+        let forward = Closure::<dyn Fn(f64, f64)>::new(move |bytes: f64, _total: f64| {
+            counted.set(counted.get() + bytes - previous.get());
+            previous.set(bytes);
+            let _ = callback.call2(
+                &JsValue::NULL,
+                &JsValue::from_f64(counted.get()),
+                &JsValue::from_f64(total),
+            );
+        });
+        let function: js_sys::Function =
+            forward.as_ref().unchecked_ref::<js_sys::Function>().clone();
+        closures.push(forward);
+        let reader = FileSliceReader::new(file.into(), Some(function))
+            .map_err(|e| JsError::new(&format!("{name}: {e}")))?;
+        sources.push(crate::io::open(reader, &name, &options).map_err(read_error)?);
+    }
+    let mut refs: Vec<&mut dyn crate::io::SampleSource> = sources
+        .iter_mut()
+        .map(|s| &mut **s as &mut dyn crate::io::SampleSource)
+        .collect();
+    let report = crate::ensemble_analysis::analyze_ensemble(&mut refs, &ensemble_settings)
+        .map_err(|e| JsError::new(&e.to_string()))?;
+    drop(refs);
+    drop(sources);
+    drop(closures);
+    Ok(serde_json::to_string(&report)
+        .map_err(|e| JsError::new(&format!("the ensemble report could not be written: {e}")))?)
 }
 
 /// `target[key] = value`, as a readable error if the engine refuses.

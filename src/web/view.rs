@@ -40,17 +40,23 @@ impl ReportView {
     /// `Float64Array`s by dotted path (copied once into wasm memory here).
     ///
     /// # Errors
-    /// When the summary is not a report or an array is missing or not a `Float64Array`.
+    /// When the summary is not a report or an array is not a `Float64Array`.
     pub fn from_parts(summary: &str, arrays: &js_sys::Object) -> Result<ReportView, JsError> {
         let mut report: Report = serde_json::from_str(summary)
             .map_err(|e| JsError::new(&format!("the report could not be read: {e}")))?;
         let mut taken = crate::report::ReportArrays::default();
+        // Paths the report has no part for (no stationarity section, no spectrogram) are
+        // absent; anything present must be a Float64Array.
         for path in Report::ARRAY_PATHS {
             let value = js_sys::Reflect::get(arrays, &JsValue::from_str(path))
-                .ok()
-                .and_then(|v| v.dyn_into::<js_sys::Float64Array>().ok())
-                .ok_or_else(|| JsError::new(&format!("the report's {path} did not arrive")))?;
-            taken.arrays.push((path, value.to_vec()));
+                .map_err(|_| JsError::new(&format!("the report's {path} could not be read")))?;
+            if value.is_undefined() {
+                continue;
+            }
+            let typed = value
+                .dyn_into::<js_sys::Float64Array>()
+                .map_err(|_| JsError::new(&format!("the report's {path} is not numbers")))?;
+            taken.arrays.push((path, typed.to_vec()));
         }
         report.restore_arrays(taken);
         Ok(Self::of(report))

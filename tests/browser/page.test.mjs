@@ -10,7 +10,7 @@ import { tmpdir } from 'node:os';
 import { join, dirname } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { chromium } from 'playwright-core';
-import { writeWav } from './signals.mjs';
+import { writeWav, gaussian } from './signals.mjs';
 
 const SITE_URL = process.env.SITE_URL ?? 'http://127.0.0.1:8700/';
 const CHROMIUM = process.env.CHROMIUM ?? '/usr/bin/chromium';
@@ -308,5 +308,64 @@ test('a long analysis shows progress and can be cancelled, keeping the previous 
   await page.fill('#sample-rate', '');
   await page.setInputFiles('#file-input', DEMO);
   await waitForReport(page, 'preamp-shorted-input');
+  await page.close();
+});
+
+test('stationarity and ergodicity: the page judges unseen records as the command line does', async () => {
+  const page = await context.newPage();
+  await page.goto(SITE_URL);
+  await waitForReport(page, 'preamp-shorted-input');
+  const dir = mkdtempSync(join(tmpdir(), 'noisesonde-stationarity-'));
+  const rate = 8000;
+  const n = 400_000; // 50 s: at M = 20 the segments are 16384 samples
+  const noise = gaussian(21);
+  // A steady record (seeded white noise), one whose level drifts (a ramp of 0.2 FS over the
+  // record under noise of σ = 0.05) and one whose power grows (σ from 0.02 to 0.1).
+  const records = {
+    'steady-bench.wav': Array.from({ length: n }, () => 0.05 * noise()),
+    'drifting-offset.wav': Array.from({ length: n }, (_, i) => 0.2 * i / n + 0.05 * noise()),
+    'growing-hiss.wav': Array.from({ length: n }, (_, i) => (0.02 + 0.08 * i / n) * noise()),
+  };
+  const lines = ['mean', 'mean_square', 'autocorrelation'];
+  const verdicts = {};
+  for (const [name, samples] of Object.entries(records)) {
+    const path = join(dir, name);
+    writeWav(path, samples, rate);
+    await page.setInputFiles('#file-input', path);
+    await waitForReport(page, name);
+    const cli = cliReport(path);
+    const shown = await pageQuantities(page);
+    verdicts[name] = {};
+    for (const line of lines) {
+      const want = cli.stationarity[line].stationary;
+      assert.equal(shown[`stationarity.${line}.stationary`], want ? 1 : 0, `${name}: ${line}`);
+      verdicts[name][line] = want;
+    }
+    assertMatchesReport(shown, cli);
+  }
+  // What the records are (closed forms of how they were made): the seeded steady record passes
+  // every line; a ramp in level fails the mean line; a ramp in σ fails the mean-square line.
+  assert.deepEqual(verdicts['steady-bench.wav'], { mean: true, mean_square: true, autocorrelation: true });
+  assert.equal(verdicts['drifting-offset.wav'].mean, false);
+  assert.equal(verdicts['growing-hiss.wav'].mean_square, false);
+  await page.screenshot({ path: join(ARTIFACTS, 'stationarity.png'), fullPage: true });
+
+  // Three realisations, each a constant offset of its own plus steady noise: each record alone
+  // is steady, but the time averages disagree with each other: not ergodic in the mean.
+  const offsets = [0.2, -0.3, 0.5];
+  const paths = offsets.map((offset, k) => {
+    const path = join(dir, `unit-${k + 1}.wav`);
+    writeWav(path, Array.from({ length: 200_000 }, () => offset + 0.05 * noise()), rate);
+    return path;
+  });
+  await page.setInputFiles('#ensemble-input', paths);
+  await page.waitForSelector('#ensemble-results:not([hidden])', { timeout: ANALYSIS_TIMEOUT_MS });
+  const cliEnsemble = JSON.parse(execFileSync(CLI, ['ensemble', ...paths, '--json', '-', '--quiet'], { encoding: 'utf8', maxBuffer: 1 << 28 }));
+  assert.equal(cliEnsemble.ensemble.mean.ergodic, false);
+  const shown = await pageQuantities(page);
+  assert.equal(shown['ensemble.mean.ergodic'], 0);
+  assert.equal(shown['ensemble.mean_square.ergodic'], cliEnsemble.ensemble.mean_square.ergodic ? 1 : 0);
+  const f = cliEnsemble.ensemble.mean.anova.f_statistic;
+  assert.ok(Math.abs(shown['ensemble.mean.anova.f_statistic'] - f) <= 1e-9 * Math.abs(f));
   await page.close();
 });

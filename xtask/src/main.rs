@@ -826,7 +826,7 @@ fn dist_single(ctx: &Ctx) -> Result<PathBuf, Failure> {
         .map_or_else(String::new, |n| n.to_string_lossy().into_owned());
 
     let worker_source = format!(
-        "{glue}\n{protocol}\nconst init = wasm_bindgen;\nconst {{ analyze_file, LiveSession }} = wasm_bindgen;\n{worker}\n"
+        "{glue}\n{protocol}\nconst init = wasm_bindgen;\nconst {{ analyze_file, analyze_ensemble_files, LiveSession }} = wasm_bindgen;\n{worker}\n"
     );
     let platform = format!(
         r#"// Single-file platform: the wasm and the demo recording are inside this page.
