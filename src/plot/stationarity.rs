@@ -767,7 +767,7 @@ pub fn draw_spectrogram<DB: DrawingBackend>(
             spectrogram.bins_per_row, spectrogram.segments_per_column
         ),
         format!(
-            "colour 10·log10(density), {unit_text}, {}–{} (1st–99.9th percentile)",
+            "colour 10·log10(density) in {unit_text} from {} to {} (1st to 99.9th percentile)",
             format_significant(db_lo, CAPTION_DIGITS),
             format_significant(db_hi, CAPTION_DIGITS)
         ),
