@@ -12,8 +12,11 @@ use std::rc::Rc;
 
 use noisesonde::analysis::{analyze, Settings};
 use noisesonde::plot::{
-    colours, decimate_min_max, decimate_min_max_indices, draw_acf, draw_psd, AcfMode,
-    AcfPlotOptions, PlotError, PlotFrame, PsdMode, PsdPlotOptions, PsdTrace, TraceKind,
+    colour_range_db, colours, decimate_min_max, decimate_min_max_indices, draw_acf, draw_psd,
+    draw_segment_statistics, draw_spectrogram, draw_stretch_acf, nearest_bin, sequential_colour,
+    AcfMode, AcfPlotOptions, PlotError, PlotFrame, PsdMode, PsdPlotOptions, PsdTrace,
+    SegmentPlotOptions, SpectrogramPlotOptions, StretchPlotOptions, TraceKind, POOLED,
+    SEGMENT_POINTS, SEQUENTIAL_STOPS, STRETCH_COLOURS, WHOLE_RECORD,
 };
 use noisesonde::report::Report;
 use noisesonde::spectral::WelchSettings;
@@ -999,4 +1002,373 @@ fn peak_hold_and_reference_traces_share_the_axes() {
         matches!(result, Err(PlotError::LengthMismatch { .. })),
         "{result:?}"
     );
+}
+
+// ---------------------------------------------------------------------------------------------
+// Stationarity: segment statistics, stretch autocorrelations, spectrogram.
+
+/// Samples of the stationarity reports: 2^18 at 1 kHz (262 s), enough for the default M = 20
+/// segments and a spectrogram of many columns.
+const STATIONARITY_LEN: usize = 1 << 18;
+
+/// One pixel: where the recorder's integer coordinates may round a continuous position.
+const ONE_PX: f64 = 1.0;
+
+/// The report of `samples` at 1 kHz in volts with default settings.
+fn volts_report(samples: Vec<f64>) -> Report {
+    let mut source = VecSource::new(samples, FS_HZ);
+    let settings = Settings {
+        calibration: Calibration {
+            scale_units_per_fs: 1.0,
+            unit: Some("V".to_string()),
+        },
+        ..Settings::default()
+    };
+    analyze(&mut source, &settings).expect("analysis")
+}
+
+/// Gaussian white noise of σ = 0.1 (shared by several tests; analysed once).
+fn white_stationarity_report() -> &'static Report {
+    static REPORT: std::sync::OnceLock<Report> = std::sync::OnceLock::new();
+    REPORT.get_or_init(|| {
+        let x: Vec<f64> = common::noise::Noise::new(11)
+            .normals(STATIONARITY_LEN)
+            .into_iter()
+            .map(|v| 0.1 * v)
+            .collect();
+        volts_report(x)
+    })
+}
+
+fn draw_with<F>(draw: F) -> (Result<PlotFrame, PlotError>, Record)
+where
+    F: FnOnce(
+        &plotters::drawing::DrawingArea<Recorder, plotters::coord::Shift>,
+    ) -> Result<PlotFrame, PlotError>,
+{
+    let (backend, record) = Recorder::new(900, 700);
+    let area = backend.into_drawing_area();
+    let result = draw(&area);
+    drop(area);
+    let record = Rc::try_unwrap(record).expect("one owner").into_inner();
+    (result, record)
+}
+
+fn centre(shape: &Shape) -> (f64, f64) {
+    let (a, b) = (shape.points[0], shape.points[1]);
+    (f64::from(a.0 + b.0) / 2.0, f64::from(a.1 + b.1) / 2.0)
+}
+
+#[test]
+fn segment_chart_draws_every_segment_and_the_whole_record_line() {
+    // Closed form: the whole-record value is the plain mean of the M segment means (equal
+    // segment lengths), and the band is that ± 1.96 × their sample standard deviation
+    // (common practice).
+    let report = white_stationarity_report();
+    let section = report
+        .stationarity
+        .as_ref()
+        .expect("a stationarity section");
+    let means = &section.segments.mean;
+    let m = means.len();
+    assert!(m >= 20, "{m} segments");
+    let (result, record) =
+        draw_with(|area| draw_segment_statistics(area, report, &SegmentPlotOptions::default()));
+    let frame = result.expect("segment chart");
+
+    let points: Vec<&Shape> = record
+        .filled_rects
+        .iter()
+        .filter(|s| s.rgb == rgb(SEGMENT_POINTS))
+        .collect();
+    assert_eq!(points.len(), 2 * m, "M points in each of two panels");
+    let upper: Vec<(f64, f64)> = points
+        .iter()
+        .map(|s| centre(s))
+        .filter(|&(_, y)| frame.contains_py(y))
+        .collect();
+    assert_eq!(upper.len(), m, "M points in the upper panel");
+    let (x0, _) = upper[0];
+    assert!((x0 - frame.px_at(section.segments.start_s[0])).abs() <= ONE_PX);
+
+    let whole = means.iter().sum::<f64>() / m as f64;
+    let sd = (means.iter().map(|v| (v - whole).powi(2)).sum::<f64>() / (m - 1) as f64).sqrt();
+    let line = record
+        .paths_of(WHOLE_RECORD)
+        .into_iter()
+        .find(|p| frame.contains_py(f64::from(p.points[0].1)))
+        .expect("a whole-record line in the upper panel");
+    let py = f64::from(line.points[0].1);
+    assert!(
+        (py - frame.py_at(whole)).abs() <= ONE_PX,
+        "line at {py} px, mean {whole} at {} px",
+        frame.py_at(whole)
+    );
+    let band = record
+        .filled_rects
+        .iter()
+        .find(|s| s.rgb == rgb(colours::BAND) && frame.contains_py(centre(s).1))
+        .expect("a band in the upper panel");
+    let (top, bottom) = (f64::from(band.points[0].1), f64::from(band.points[1].1));
+    assert!(
+        (top - frame.py_at(whole + 1.96 * sd)).abs() <= ONE_PX,
+        "band top"
+    );
+    assert!(
+        (bottom - frame.py_at(whole - 1.96 * sd)).abs() <= ONE_PX,
+        "band bottom"
+    );
+    assert!(record.has_text("segment mean (V)"));
+    assert!(record.has_text("segment mean square (V^2)"));
+    assert!(record.has_text(&format!("M = {m} segments")));
+}
+
+#[test]
+fn segment_caption_says_whether_each_line_is_stationary() {
+    // A step of 10 σ in the mean half-way through cannot pass the reverse arrangements test
+    // (Bendat & Piersol 2010, ch. 4: a monotonic trend of the segment means); white noise
+    // passes at α = 0.05 for this seed.
+    let mut noise = common::noise::Noise::new(23);
+    let stepped: Vec<f64> = (0..STATIONARITY_LEN)
+        .map(|n| 0.1 * noise.normal() + if n < STATIONARITY_LEN / 2 { 0.0 } else { 1.0 })
+        .collect();
+    let stepped = volts_report(stepped);
+    let (result, record) =
+        draw_with(|area| draw_segment_statistics(area, &stepped, &SegmentPlotOptions::default()));
+    result.expect("segment chart of a step");
+    assert!(
+        record.has_text("mean: not stationary"),
+        "{:?}",
+        record.texts
+    );
+
+    let (result, record) = draw_with(|area| {
+        draw_segment_statistics(
+            area,
+            white_stationarity_report(),
+            &SegmentPlotOptions::default(),
+        )
+    });
+    result.expect("segment chart of noise");
+    assert!(record.has_text("mean: stationary ("), "{:?}", record.texts);
+    assert!(record.has_text("reverse arrangements A = "));
+    assert!(record.has_text("α = 0.05"));
+}
+
+#[test]
+fn stretch_chart_draws_every_stretch_the_pooled_curve_and_the_band() {
+    // J stretch curves of K + 1 lags in distinct colours, one thicker pooled curve, and a band
+    // polygon of the K + 1 upper and K + 1 lower edges (common practice).
+    let report = white_stationarity_report();
+    let shape = &report
+        .stationarity
+        .as_ref()
+        .expect("stationarity")
+        .autocorrelation
+        .comparison;
+    let j = shape.stretches;
+    let lags = shape.lag_s.len();
+    let (result, record) =
+        draw_with(|area| draw_stretch_acf(area, report, &StretchPlotOptions::default()));
+    let frame = result.expect("stretch chart");
+    let curves: Vec<&Shape> = record
+        .paths
+        .iter()
+        .filter(|p| STRETCH_COLOURS.iter().any(|&c| p.rgb == rgb(c)) && p.points.len() == lags)
+        .collect();
+    assert_eq!(curves.len(), j, "one curve per stretch");
+    let distinct: std::collections::HashSet<_> = curves.iter().map(|c| c.rgb).collect();
+    assert_eq!(distinct.len(), j.min(STRETCH_COLOURS.len()));
+    let pooled = record.paths_of(POOLED);
+    assert_eq!(pooled.len(), 1, "one pooled curve");
+    assert!(pooled[0].width_px > curves[0].width_px, "pooled is thicker");
+    let last = *pooled[0].points.last().expect("points");
+    let expected_py = frame.py_at(*shape.pooled.last().expect("pooled"));
+    assert!((f64::from(last.1) - expected_py).abs() <= ONE_PX);
+    let band = record
+        .polygons
+        .iter()
+        .find(|p| p.rgb == rgb(colours::BAND))
+        .expect("a band");
+    assert_eq!(band.points.len(), 2 * lags);
+    assert!(record.has_text("stretch 1: 0 s–"), "{:?}", record.texts);
+    assert!(record.has_text("largest deviation D = "));
+}
+
+/// Rectangles drawn inside `frame` in a colour of the sequential scale's range (not the
+/// background): the heatmap's cells.
+fn cells<'r>(record: &'r Record, frame: &PlotFrame) -> Vec<&'r Shape> {
+    record
+        .filled_rects
+        .iter()
+        .filter(|s| {
+            s.rgb != rgb(colours::BACKGROUND)
+                && s.points
+                    .iter()
+                    .all(|p| frame.contains_px(f64::from(p.0)) && frame.contains_py(f64::from(p.1)))
+        })
+        .collect()
+}
+
+/// ITU-R BT.709 luma of a colour.
+fn luma(c: (u8, u8, u8)) -> f64 {
+    0.2126 * f64::from(c.0) + 0.7152 * f64::from(c.1) + 0.0722 * f64::from(c.2)
+}
+
+#[test]
+fn spectrogram_draws_every_cell_and_a_loud_tone_at_the_top_of_the_scale() {
+    // A 125 Hz tone of amplitude 1 over noise of σ = 0.01: its row holds the largest densities,
+    // which the 99.9th percentile colour range clamps to the top stop (a choice of this
+    // project; the tone row is 1 of ≤ 256 rows, more than 0.1 % of the cells).
+    const TONE_HZ: f64 = 125.0;
+    let mut noise = common::noise::Noise::new(5);
+    let x: Vec<f64> = (0..STATIONARITY_LEN)
+        .map(|n| {
+            (2.0 * std::f64::consts::PI * TONE_HZ * n as f64 / FS_HZ).sin() + 0.01 * noise.normal()
+        })
+        .collect();
+    let report = volts_report(x);
+    let spectrogram = report
+        .stationarity
+        .as_ref()
+        .and_then(|s| s.spectrogram.as_ref())
+        .expect("a spectrogram");
+    let rows = spectrogram
+        .frequency_hz
+        .iter()
+        .filter(|&&f| f > 0.0)
+        .count();
+    let columns = spectrogram.start_s.len();
+    let (result, record) =
+        draw_with(|area| draw_spectrogram(area, &report, &SpectrogramPlotOptions::default()));
+    let frame = result.expect("spectrogram");
+    let cells = cells(&record, &frame);
+    assert_eq!(
+        cells.len(),
+        rows * columns,
+        "{rows} rows × {columns} columns"
+    );
+
+    let tone_row = nearest_bin(&spectrogram.frequency_hz, TONE_HZ).expect("row");
+    let top = rgb(SEQUENTIAL_STOPS[SEQUENTIAL_STOPS.len() - 1]);
+    let row_of =
+        |s: &Shape| nearest_bin(&spectrogram.frequency_hz, frame.y_at(centre(s).1)).expect("row");
+    let top_rows: Vec<usize> = cells
+        .iter()
+        .filter(|s| s.rgb == top)
+        .map(|s| row_of(s))
+        .collect();
+    assert!(
+        top_rows.contains(&tone_row),
+        "tone row {tone_row} not at the top: {top_rows:?}"
+    );
+    assert!(
+        top_rows.iter().all(|r| r.abs_diff(tone_row) <= 1),
+        "top colour outside the tone's rows: {top_rows:?}"
+    );
+    assert!(record.has_text("dB re 1 V^2/Hz"), "{:?}", record.texts);
+}
+
+#[test]
+fn spectrogram_follows_a_tone_that_steps_from_50_to_200_hz() {
+    // Closed form: columns wholly in the first half are brightest in the row nearest 50 Hz,
+    // columns wholly in the second half in the row nearest 200 Hz (±1 row for leakage).
+    let mut noise = common::noise::Noise::new(9);
+    let half = STATIONARITY_LEN / 2;
+    let x: Vec<f64> = (0..STATIONARITY_LEN)
+        .map(|n| {
+            let f = if n < half { 50.0 } else { 200.0 };
+            (2.0 * std::f64::consts::PI * f * n as f64 / FS_HZ).sin() + 0.01 * noise.normal()
+        })
+        .collect();
+    let report = volts_report(x);
+    let spectrogram = report
+        .stationarity
+        .as_ref()
+        .and_then(|s| s.spectrogram.as_ref())
+        .expect("a spectrogram");
+    let (result, record) =
+        draw_with(|area| draw_spectrogram(area, &report, &SpectrogramPlotOptions::default()));
+    let frame = result.expect("spectrogram");
+    let cells = cells(&record, &frame);
+    let half_s = half as f64 / FS_HZ;
+    let row_50 = nearest_bin(&spectrogram.frequency_hz, 50.0).expect("row");
+    let row_200 = nearest_bin(&spectrogram.frequency_hz, 200.0).expect("row");
+    let mut checked = 0;
+    for (start, end) in spectrogram.start_s.iter().zip(&spectrogram.end_s) {
+        let expected = if *end <= half_s {
+            row_50
+        } else if *start >= half_s {
+            row_200
+        } else {
+            continue;
+        };
+        let mid = frame.px_at((start + end) / 2.0);
+        let column: Vec<&&Shape> = cells
+            .iter()
+            .filter(|s| (centre(s).0 - mid).abs() <= ONE_PX)
+            .collect();
+        let brightest = column.iter().map(|s| luma(s.rgb)).fold(0.0, f64::max);
+        for s in column.iter().filter(|s| luma(s.rgb) == brightest) {
+            let row = nearest_bin(&spectrogram.frequency_hz, frame.y_at(centre(s).1)).expect("row");
+            assert!(
+                row.abs_diff(expected) <= 1,
+                "column {start}–{end} s brightest in row {row}, expected {expected}"
+            );
+        }
+        checked += 1;
+    }
+    assert!(checked >= 4, "{checked} columns checked");
+}
+
+#[test]
+fn sequential_scale_runs_from_dark_to_light() {
+    // A choice of this project: the ends are the first and last stops, and BT.709 luma never
+    // falls along the scale.
+    assert_eq!(sequential_colour(0.0), SEQUENTIAL_STOPS[0]);
+    assert_eq!(sequential_colour(f64::NAN), SEQUENTIAL_STOPS[0]);
+    assert_eq!(sequential_colour(1.0), SEQUENTIAL_STOPS[4]);
+    let lumas: Vec<f64> = (0..=100)
+        .map(|k| luma(rgb(sequential_colour(f64::from(k) / 100.0))))
+        .collect();
+    assert!(lumas.windows(2).all(|w| w[1] >= w[0]), "{lumas:?}");
+    // Percentiles by nearest rank (common practice): of 0..=999, the 1st is 9, the 99.9th 998.
+    let values: Vec<f64> = (0..1000).map(f64::from).collect();
+    assert_eq!(colour_range_db(&values), (9.0, 998.0));
+}
+
+#[test]
+fn stationarity_charts_without_a_section_are_errors() {
+    // 300 samples is one PSD segment but far too short for M = 20 segments (the analysis then
+    // leaves the section out and warns).
+    let mut source = VecSource::new(noise(300, 3), FS_HZ);
+    let short = analyze(&mut source, &settings(Some("V"))).expect("analysis of 300 samples");
+    assert!(short.stationarity.is_none());
+    let (result, _) =
+        draw_with(|area| draw_segment_statistics(area, &short, &SegmentPlotOptions::default()));
+    assert_eq!(result, Err(PlotError::NoStationarity));
+    let (result, _) =
+        draw_with(|area| draw_stretch_acf(area, &short, &StretchPlotOptions::default()));
+    assert_eq!(result, Err(PlotError::NoStationarity));
+    let (result, _) =
+        draw_with(|area| draw_spectrogram(area, &short, &SpectrogramPlotOptions::default()));
+    assert_eq!(result, Err(PlotError::NoStationarity));
+
+    let mut without = white_stationarity_report().clone();
+    if let Some(section) = without.stationarity.as_mut() {
+        section.spectrogram = None;
+    }
+    let (result, _) =
+        draw_with(|area| draw_spectrogram(area, &without, &SpectrogramPlotOptions::default()));
+    assert_eq!(result, Err(PlotError::NoSpectrogram));
+}
+
+#[test]
+fn stationarity_options_parse_from_json() {
+    // From memory: serde's `default` fills missing fields; `deny_unknown_fields` rejects typos.
+    let o: SegmentPlotOptions = serde_json::from_str(r#"{"pixel_ratio": 2}"#).expect("parse");
+    assert_eq!(o.pixel_ratio, 2.0);
+    let o: StretchPlotOptions = serde_json::from_str("{}").expect("parse");
+    assert_eq!(o.pixel_ratio, 1.0);
+    assert!(serde_json::from_str::<SpectrogramPlotOptions>(r#"{"pixelratio": 2}"#).is_err());
 }

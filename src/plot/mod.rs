@@ -1,5 +1,6 @@
-//! Plots of a [`Report`](crate::report::Report): the PSD against frequency and the
-//! autocorrelation against lag.
+//! Plots of a [`Report`](crate::report::Report): the PSD against frequency, the
+//! autocorrelation against lag, and the stationarity section (segment statistics over time,
+//! stretch autocorrelations, spectrogram).
 //!
 //! Every function here is generic over a `plotters` [`DrawingBackend`], so the chart never knows
 //! where it goes: the page draws on a `<canvas>`, tests draw into a recording backend, and an
@@ -18,6 +19,7 @@ mod acf;
 mod decimate;
 mod options;
 mod psd;
+mod stationarity;
 mod ticks;
 
 use plotters::coord::ranged1d::{KeyPointHint, NoDefaultFormatting, Ranged, ValueFormatter};
@@ -37,6 +39,12 @@ pub use self::options::{
     TraceKind,
 };
 pub use self::psd::draw_psd;
+pub use self::stationarity::{
+    colour_range_db, draw_segment_statistics, draw_spectrogram, draw_stretch_acf,
+    sequential_colour, stretch_colour, whole_record_and_spread, SegmentPlotOptions,
+    SpectrogramPlotOptions, StretchPlotOptions, POOLED, SEGMENT_POINTS, SEQUENTIAL_STOPS,
+    STRETCH_COLOURS, WHOLE_RECORD,
+};
 pub use self::ticks::{format_hz, format_log_value};
 
 /// Largest device pixel ratio accepted; screens ship with 1 to 4, so 16 leaves room for zoom.
@@ -96,6 +104,15 @@ pub enum PlotError {
     /// The report holds no autocorrelation lags.
     #[error("the report has no autocorrelation lags to plot")]
     EmptyAcf,
+    /// The report has no stationarity section (the record was too short for the tests).
+    #[error(
+        "the report has no stationarity section: analyse a record long enough for the \
+         stationarity tests"
+    )]
+    NoStationarity,
+    /// The stationarity section holds no spectrogram (or one without columns).
+    #[error("the report's stationarity section has no spectrogram to plot")]
+    NoSpectrogram,
     /// Two arrays of the report that belong together have different lengths.
     #[error("the report is inconsistent: {what} has {found} values but {expected} were expected")]
     LengthMismatch {

@@ -8,8 +8,9 @@ use web_sys::HtmlCanvasElement;
 
 use crate::bands;
 use crate::plot::{
-    draw_acf, draw_psd, nearest_bin, AcfPlotOptions, PlotFrame, PsdMode, PsdPlotOptions, PsdTrace,
-    TraceKind,
+    draw_acf, draw_psd, draw_segment_statistics, draw_spectrogram, draw_stretch_acf, nearest_bin,
+    AcfPlotOptions, PlotFrame, PsdMode, PsdPlotOptions, PsdTrace, SegmentPlotOptions,
+    SpectrogramPlotOptions, StretchPlotOptions, TraceKind,
 };
 use crate::report::Report;
 
@@ -22,6 +23,9 @@ pub struct ReportView {
     traces: Vec<PsdTrace>,
     psd_frame: Option<PlotFrame>,
     acf_frame: Option<PlotFrame>,
+    segments_frame: Option<PlotFrame>,
+    stretches_frame: Option<PlotFrame>,
+    spectrogram_frame: Option<PlotFrame>,
 }
 
 #[wasm_bindgen]
@@ -68,6 +72,9 @@ impl ReportView {
             traces: Vec::new(),
             psd_frame: None,
             acf_frame: None,
+            segments_frame: None,
+            stretches_frame: None,
+            spectrogram_frame: None,
         }
     }
 
@@ -153,6 +160,82 @@ impl ReportView {
             draw_acf(&area, &self.report, &options).map_err(|e| JsError::new(&e.to_string()))?;
         self.acf_frame = Some(frame);
         Ok(())
+    }
+
+    /// Draws the segment means and mean squares of the stationarity section on `canvas` at its
+    /// backing-store size. `options_json`: `{"pixel_ratio": number}`, optional.
+    ///
+    /// # Errors
+    /// Unreadable options, a canvas without a 2D context, a report without a stationarity
+    /// section, or another plot error.
+    pub fn draw_segments(
+        &mut self,
+        canvas: &HtmlCanvasElement,
+        options_json: &str,
+    ) -> Result<(), JsError> {
+        let options: SegmentPlotOptions = parse_options(options_json, "segment plot options")?;
+        let area = canvas_area(canvas)?;
+        let frame = draw_segment_statistics(&area, &self.report, &options)
+            .map_err(|e| JsError::new(&e.to_string()))?;
+        self.segments_frame = Some(frame);
+        Ok(())
+    }
+
+    /// Draws each stretch's autocorrelation against the pooled one on `canvas` at its
+    /// backing-store size. `options_json`: `{"pixel_ratio": number}`, optional.
+    ///
+    /// # Errors
+    /// Unreadable options, a canvas without a 2D context, a report without a stationarity
+    /// section, or another plot error.
+    pub fn draw_stretches(
+        &mut self,
+        canvas: &HtmlCanvasElement,
+        options_json: &str,
+    ) -> Result<(), JsError> {
+        let options: StretchPlotOptions = parse_options(options_json, "stretch plot options")?;
+        let area = canvas_area(canvas)?;
+        let frame = draw_stretch_acf(&area, &self.report, &options)
+            .map_err(|e| JsError::new(&e.to_string()))?;
+        self.stretches_frame = Some(frame);
+        Ok(())
+    }
+
+    /// Draws the spectrogram on `canvas` at its backing-store size. `options_json`:
+    /// `{"pixel_ratio": number}`, optional.
+    ///
+    /// # Errors
+    /// Unreadable options, a canvas without a 2D context, a report without a stationarity
+    /// section or spectrogram, or another plot error.
+    pub fn draw_spectrogram(
+        &mut self,
+        canvas: &HtmlCanvasElement,
+        options_json: &str,
+    ) -> Result<(), JsError> {
+        let options: SpectrogramPlotOptions =
+            parse_options(options_json, "spectrogram plot options")?;
+        let area = canvas_area(canvas)?;
+        let frame = draw_spectrogram(&area, &self.report, &options)
+            .map_err(|e| JsError::new(&e.to_string()))?;
+        self.spectrogram_frame = Some(frame);
+        Ok(())
+    }
+
+    /// The segment start time (s) under `x_css_px` of the segment chart last drawn; NaN outside
+    /// its plotting area or before any drawing.
+    pub fn segment_time_at(&self, x_css_px: f64, pixel_ratio: f64) -> f64 {
+        value_at(self.segments_frame.as_ref(), x_css_px, pixel_ratio)
+    }
+
+    /// The lag (s) under `x_css_px` of the stretch chart last drawn; NaN outside its plotting
+    /// area or before any drawing.
+    pub fn stretch_lag_at(&self, x_css_px: f64, pixel_ratio: f64) -> f64 {
+        value_at(self.stretches_frame.as_ref(), x_css_px, pixel_ratio)
+    }
+
+    /// The time (s) under `x_css_px` of the spectrogram last drawn; NaN outside its plotting
+    /// area or before any drawing.
+    pub fn spectrogram_time_at(&self, x_css_px: f64, pixel_ratio: f64) -> f64 {
+        value_at(self.spectrogram_frame.as_ref(), x_css_px, pixel_ratio)
     }
 
     /// The frequency (Hz) under horizontal position `x_css_px` (CSS pixels from the canvas's
