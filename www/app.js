@@ -549,6 +549,16 @@ function drawPlots() {
     }));
     const acfRatio = sizeCanvas($.acfCanvas);
     state.view.draw_acf($.acfCanvas, JSON.stringify({ mode: $.acfMode.value, pixel_ratio: acfRatio }));
+    if (state.report?.stationarity) {
+      const view = state.view;
+      for (const [canvas, draw] of /** @type {[HTMLCanvasElement, (c: HTMLCanvasElement, o: string) => void][]} */ ([
+        [$.segmentsCanvas, (c, o) => view.draw_segments(c, o)],
+        [$.stretchesCanvas, (c, o) => view.draw_stretches(c, o)],
+        ...(state.report.stationarity.spectrogram ? [[$.spectrogramCanvas, (c, o) => view.draw_spectrogram(c, o)]] : []),
+      ])) {
+        draw(canvas, JSON.stringify({ pixel_ratio: sizeCanvas(canvas) }));
+      }
+    }
   } catch (err) {
     showError(`could not draw: ${err instanceof Error ? err.message : err}`);
   }
