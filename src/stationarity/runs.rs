@@ -100,20 +100,7 @@ pub fn median(values: &[f64]) -> Option<f64> {
     if values.is_empty() {
         return None;
     }
-    let mut copy = values.to_vec();
-    let mid = copy.len() / 2;
-    let (below, upper_mid, _) = copy.select_nth_unstable_by(mid, f64::total_cmp);
-    let upper = *upper_mid;
-    Some(if values.len() % 2 == 1 {
-        upper
-    } else {
-        let lower = below
-            .iter()
-            .copied()
-            .max_by(f64::total_cmp)
-            .unwrap_or(upper);
-        0.5 * (lower + upper)
-    })
+    Some(crate::numeric::median(&mut values.to_vec()))
 }
 
 /// The test's outcome on one sequence.
