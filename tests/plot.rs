@@ -1372,3 +1372,54 @@ fn stationarity_options_parse_from_json() {
     assert_eq!(o.pixel_ratio, 1.0);
     assert!(serde_json::from_str::<SpectrogramPlotOptions>(r#"{"pixelratio": 2}"#).is_err());
 }
+
+/// The ensemble chart: the across-record mean over time with its overall line, and a caption
+/// that says whether the ensemble is ergodic in the mean. Three records, each its own constant
+/// (0.2, −0.3, 0.5) plus white noise, are the textbook non-ergodic ensemble; the overall line
+/// sits at the mean of the plotted values (closed form), one point per segment.
+#[test]
+fn ensemble_chart_draws_the_mean_over_time_and_says_ergodic_or_not() {
+    use noisesonde::ensemble_analysis::{analyze_ensemble, EnsembleSettings};
+    use noisesonde::plot::draw_ensemble_over_time;
+    let n = 1 << 16;
+    let mut sources: Vec<VecSource> = [0.2, -0.3, 0.5]
+        .iter()
+        .enumerate()
+        .map(|(k, offset)| {
+            let x = noise(n, 40 + k as u64)
+                .iter()
+                .map(|v| offset + 0.05 * v)
+                .collect();
+            VecSource::new(x, FS_HZ)
+        })
+        .collect();
+    let mut refs: Vec<&mut dyn noisesonde::io::SampleSource> = sources
+        .iter_mut()
+        .map(|s| s as &mut dyn noisesonde::io::SampleSource)
+        .collect();
+    let report = analyze_ensemble(&mut refs, &EnsembleSettings::default()).unwrap();
+    assert!(!report.ensemble.mean.ergodic);
+    let over = &report.ensemble.over_time;
+    let (result, record) =
+        draw_with(|area| draw_ensemble_over_time(area, &report, &SegmentPlotOptions::default()));
+    let frame = result.expect("ensemble chart");
+    assert!(record.has_text("mean: NOT ergodic"));
+    assert!(record.has_text("3 records"));
+    let points = record
+        .filled_rects
+        .iter()
+        .filter(|s| s.rgb == rgb(SEGMENT_POINTS))
+        .count();
+    assert_eq!(
+        points,
+        2 * over.mean.len(),
+        "one point per segment in each panel"
+    );
+    let whole = over.mean.iter().sum::<f64>() / over.mean.len() as f64;
+    let line = record
+        .paths_of(WHOLE_RECORD)
+        .into_iter()
+        .find(|p| frame.contains_py(f64::from(p.points[0].1)))
+        .expect("the overall line in the upper panel");
+    assert!((f64::from(line.points[0].1) - frame.py_at(whole)).abs() <= ONE_PX);
+}

@@ -2,7 +2,7 @@
 // The page: collects the file and settings, hands them to the analysis worker, shows the report.
 // No signal processing here: numbers come from the Rust pipeline (worker) and plots are drawn
 // by Rust (ReportView) on the canvases.
-import init, { ReportView } from './pkg/noisesonde.js';
+import init, { ReportView, draw_ensemble } from './pkg/noisesonde.js';
 import { MSG, rejoinArrays } from './protocol.js';
 import { wasmBytes, createWorker, demoFile, captureWorkletUrl } from './platform.js';
 import { initLive } from './live.js';
@@ -47,6 +47,7 @@ const $ = {
   ensembleResults: byId('ensemble-results'),
   ensembleVerdict: byId('ensemble-verdict'),
   ensembleTable: /** @type {HTMLTableElement} */ (byId('ensemble-table')),
+  ensembleCanvas: /** @type {HTMLCanvasElement} */ (byId('ensemble-canvas')),
   segmentsCanvas: /** @type {HTMLCanvasElement} */ (byId('segments-canvas')),
   stretchesCanvas: /** @type {HTMLCanvasElement} */ (byId('stretches-canvas')),
   spectrogramCanvas: /** @type {HTMLCanvasElement} */ (byId('spectrogram-canvas')),
@@ -211,6 +212,11 @@ function showEnsemble(json) {
     return tr;
   }));
   $.ensembleResults.hidden = false;
+  try {
+    draw_ensemble($.ensembleCanvas, json, JSON.stringify({ pixel_ratio: sizeCanvas($.ensembleCanvas) }));
+  } catch (err) {
+    showError(`could not draw the ensemble: ${err instanceof Error ? err.message : err}`);
+  }
 }
 
 function finishRun() {

@@ -40,10 +40,10 @@ pub use self::options::{
 };
 pub use self::psd::draw_psd;
 pub use self::stationarity::{
-    colour_range_db, draw_segment_statistics, draw_spectrogram, draw_stretch_acf,
-    sequential_colour, stretch_colour, whole_record_and_spread, SegmentPlotOptions,
-    SpectrogramPlotOptions, StretchPlotOptions, POOLED, SEGMENT_POINTS, SEQUENTIAL_STOPS,
-    STRETCH_COLOURS, WHOLE_RECORD,
+    colour_range_db, draw_ensemble_over_time, draw_segment_statistics, draw_spectrogram,
+    draw_stretch_acf, sequential_colour, stretch_colour, whole_record_and_spread,
+    SegmentPlotOptions, SpectrogramPlotOptions, StretchPlotOptions, POOLED, SEGMENT_POINTS,
+    SEQUENTIAL_STOPS, STRETCH_COLOURS, WHOLE_RECORD,
 };
 pub use self::ticks::{format_hz, format_log_value};
 

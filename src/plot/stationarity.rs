@@ -210,6 +210,7 @@ fn draw_level_panel<DB: DrawingBackend>(
     values: &[f64],
     x_hi: f64,
     y_description: String,
+    x_what: &str,
 ) -> Result<PlotFrame, PlotError> {
     let (whole, spread) = whole_record_and_spread(values);
     let band = (whole - Z_95 * spread, whole + Z_95 * spread);
@@ -235,7 +236,7 @@ fn draw_level_panel<DB: DrawingBackend>(
                 log: false,
                 ticks,
                 label: &x_label,
-                description: format!("segment start ({time_name})"),
+                description: format!("{x_what} ({time_name})"),
             }
         },
         |max_labels| {
@@ -349,6 +350,7 @@ pub fn draw_segment_statistics<DB: DrawingBackend>(
         &table.mean,
         x_hi,
         format!("segment mean ({})", report.units.amplitude),
+        "segment start",
     )?;
     let lower_caption = vec![verdict_text("mean square", &section.mean_square)];
     draw_level_panel(
@@ -359,6 +361,83 @@ pub fn draw_segment_statistics<DB: DrawingBackend>(
         &table.mean_square,
         x_hi,
         format!("segment mean square ({})", report.units.power),
+        "segment start",
+    )?;
+    area.present()?;
+    Ok(frame)
+}
+
+/// Draws an ensemble's averages across records over time: the ensemble mean m(t) (upper panel)
+/// and mean square q(t) (lower panel), each averaged over the segments of the records, with
+/// their overall value and a ±1.96σ band of the segment values; returns the upper panel's frame.
+/// A process ergodic in the mean keeps m(t) flat and equal to every record's time average
+/// (listed beside the plot on the page).
+///
+/// # Units
+/// x in seconds; y in `report.unit` and `report.units.power`.
+///
+/// # Errors
+/// [`PlotError::LengthMismatch`] for inconsistent arrays, [`PlotError::PixelRatio`],
+/// [`PlotError::AreaTooSmall`], [`PlotError::Drawing`].
+pub fn draw_ensemble_over_time<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    report: &crate::ensemble_analysis::EnsembleReport,
+    options: &SegmentPlotOptions,
+) -> Result<PlotFrame, PlotError> {
+    let scale = Scale::new(options.pixel_ratio)?;
+    let over = &report.ensemble.over_time;
+    let m = over.start_s.len();
+    check_len("ensemble.over_time.mean", m, &over.mean)?;
+    check_len("ensemble.over_time.mean_square", m, &over.mean_square)?;
+    let step = over.start_s.get(1).copied().unwrap_or(report.duration_s)
+        - over.start_s.first().copied().unwrap_or(0.0);
+    let end = over.start_s.last().copied().unwrap_or(0.0) + step;
+    let x_hi = if end.is_finite() && end > 0.0 {
+        end
+    } else {
+        1.0
+    };
+    let (_, height_px) = area.dim_in_pixel();
+    let (upper, lower) = area.split_vertically(height_px / 2);
+    let caption = vec![
+        "averages across records over time".to_string(),
+        format!("{} records, {m} segments", report.records),
+        format!(
+            "mean: {}",
+            if report.ensemble.mean.ergodic {
+                "ergodic"
+            } else {
+                "NOT ergodic"
+            }
+        ),
+    ];
+    let frame = draw_level_panel(
+        &upper,
+        scale,
+        &caption,
+        &over.start_s,
+        &over.mean,
+        x_hi,
+        format!("ensemble mean ({})", report.units.amplitude),
+        "time",
+    )?;
+    let lower_caption = vec![format!(
+        "mean square: {}",
+        if report.ensemble.mean_square.ergodic {
+            "ergodic"
+        } else {
+            "NOT ergodic"
+        }
+    )];
+    draw_level_panel(
+        &lower,
+        scale,
+        &lower_caption,
+        &over.start_s,
+        &over.mean_square,
+        x_hi,
+        format!("ensemble mean square ({})", report.units.power),
+        "time",
     )?;
     area.present()?;
     Ok(frame)

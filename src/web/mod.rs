@@ -25,7 +25,7 @@ use crate::io::{ColumnSelector, InputOptions, RawFormat, ReadError};
 
 pub use self::file_reader::{FileSliceReader, SLICE_BYTES};
 pub use self::live::LiveBinding;
-pub use self::view::ReportView;
+pub use self::view::{draw_ensemble, ReportView};
 
 /// Runs when the module is instantiated: panics become readable JavaScript errors (with the
 /// panic message and location) instead of a bare `RuntimeError: unreachable`.

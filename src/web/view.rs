@@ -337,3 +337,25 @@ fn value_at(frame: Option<&PlotFrame>, x_css_px: f64, pixel_ratio: f64) -> f64 {
         f64::NAN
     }
 }
+
+/// Draws an ensemble report (the JSON `analyze_ensemble_files` returned) on `canvas`: the
+/// averages across records over time (see [`crate::plot::draw_ensemble_over_time`]).
+/// `options_json`: `{"pixel_ratio": number}`, optional.
+///
+/// # Errors
+/// Unreadable report or options, a canvas without a 2D context, or a plot error.
+#[wasm_bindgen]
+pub fn draw_ensemble(
+    canvas: &HtmlCanvasElement,
+    report_json: &str,
+    options_json: &str,
+) -> Result<(), JsError> {
+    let report: crate::ensemble_analysis::EnsembleReport = serde_json::from_str(report_json)
+        .map_err(|e| JsError::new(&format!("the ensemble report could not be read: {e}")))?;
+    let options: crate::plot::SegmentPlotOptions =
+        parse_options(options_json, "ensemble plot options")?;
+    let area = canvas_area(canvas)?;
+    crate::plot::draw_ensemble_over_time(&area, &report, &options)
+        .map(drop)
+        .map_err(|e| JsError::new(&e.to_string()))
+}

@@ -365,6 +365,14 @@ test('stationarity and ergodicity: the page judges unseen records as the command
   const shown = await pageQuantities(page);
   assert.equal(shown['ensemble.mean.ergodic'], 0);
   assert.equal(shown['ensemble.mean_square.ergodic'], cliEnsemble.ensemble.mean_square.ergodic ? 1 : 0);
+  // The chart of the averages across records was drawn (something other than white on it).
+  const inked = await page.$eval('#ensemble-canvas', (c) => {
+    const d = c.getContext('2d').getImageData(0, 0, c.width, c.height).data;
+    let n = 0;
+    for (let i = 0; i < d.length; i += 4) if (d[i] < 200 || d[i + 1] < 200 || d[i + 2] < 200) n += 1;
+    return n;
+  });
+  assert.ok(inked > 1000, `ensemble chart: ${inked} inked pixels`);
   const f = cliEnsemble.ensemble.mean.anova.f_statistic;
   assert.ok(Math.abs(shown['ensemble.mean.anova.f_statistic'] - f) <= 1e-9 * Math.abs(f));
   await page.close();

@@ -856,7 +856,7 @@ function captureWorkletUrl() {{ return null; }}
         demo_name = js_string(&demo_name),
     );
     let script = format!(
-        "{glue}\n{protocol}\n{platform}\nconst init = wasm_bindgen;\nconst {{ ReportView }} = wasm_bindgen;\n{dom}\n{live}\n{app}\n"
+        "{glue}\n{protocol}\n{platform}\nconst init = wasm_bindgen;\nconst {{ ReportView, draw_ensemble }} = wasm_bindgen;\n{dom}\n{live}\n{app}\n"
     )
     .replace("</script", "<\\/script");
 
