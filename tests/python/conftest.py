@@ -61,6 +61,7 @@ def write_wav(wav_write_tool):
         data = np.asarray(samples, dtype="<f8").tobytes()
         proc = subprocess.run(args, input=data, capture_output=True, timeout=120)
         return proc.returncode, proc.stdout, proc.stderr.decode()
+    return run
 
 
 @pytest.fixture
