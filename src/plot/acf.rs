@@ -8,7 +8,7 @@ use plotters::style::text_anchor::{HPos, Pos, VPos};
 
 use super::decimate::decimate_min_max_indices;
 use super::options::AcfPlotOptions;
-use super::ticks::{format_linear, format_seconds, linear_ticks, time_unit};
+use super::ticks::{format_linear, format_seconds, linear_ticks, time_ticks, time_unit};
 use super::{
     build_chart, check_len, clamp_or_floor, colours, text_style, Axis, PlotError, PlotFrame, Scale,
     CURVE_WIDTH_PX, FONT_PX, LINE_HEIGHT, LINE_WIDTH_PX,
@@ -98,12 +98,7 @@ pub fn draw_acf<DB: DrawingBackend>(
         &caption,
         &[],
         |max_labels| {
-            let ticks = linear_ticks(x_lo / time_factor, x_hi / time_factor, max_labels);
-            let ticks = super::ticks::Ticks {
-                bold: ticks.bold.iter().map(|v| v * time_factor).collect(),
-                light: ticks.light.iter().map(|v| v * time_factor).collect(),
-                step: ticks.step * time_factor,
-            };
+            let ticks = time_ticks(x_lo, x_hi, max_labels, time_factor);
             x_step.set(ticks.step);
             Axis {
                 lo: x_lo,

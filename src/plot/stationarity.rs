@@ -12,7 +12,7 @@ use serde::{Deserialize, Serialize};
 
 use super::ticks::{
     format_hz, format_linear, format_seconds, format_significant, linear_ticks, log_ticks,
-    time_unit, Ticks,
+    time_ticks, time_unit,
 };
 use super::{
     build_chart, check_len, colours, text_style, Axis, PlotError, PlotFrame, Scale, CURVE_WIDTH_PX,
@@ -190,16 +190,6 @@ fn padded_range(values: impl IntoIterator<Item = f64>) -> (f64, f64) {
     }
 }
 
-/// Time ticks in seconds, chosen in the display unit of `hi_s`.
-fn time_ticks(lo_s: f64, hi_s: f64, max_labels: usize, factor: f64) -> Ticks {
-    let ticks = linear_ticks(lo_s / factor, hi_s / factor, max_labels);
-    Ticks {
-        bold: ticks.bold.iter().map(|v| v * factor).collect(),
-        light: ticks.light.iter().map(|v| v * factor).collect(),
-        step: ticks.step * factor,
-    }
-}
-
 /// Draws one panel of segment values with the whole-record line and band; returns its frame.
 #[allow(clippy::too_many_arguments)]
 fn draw_level_panel<DB: DrawingBackend>(
@@ -325,43 +315,76 @@ pub fn draw_segment_statistics<DB: DrawingBackend>(
     let m = table.start_s.len();
     check_len("stationarity.segments.mean", m, &table.mean)?;
     check_len("stationarity.segments.mean_square", m, &table.mean_square)?;
-    let last = table.start_s.last().copied().unwrap_or(0.0);
-    let x_hi = {
-        let end = last + table.segment_s;
-        if end.is_finite() && end > 0.0 {
-            end
-        } else {
-            1.0
-        }
+    let end_s = table.start_s.last().copied().unwrap_or(0.0) + table.segment_s;
+    draw_two_panels(
+        area,
+        scale,
+        &table.start_s,
+        end_s,
+        "segment start",
+        Panel {
+            caption: vec![
+                "segment statistics".to_string(),
+                format!("M = {m} segments of {}", format_seconds(table.segment_s)),
+                format!("α = {}", section.alpha),
+                verdict_text("mean", &section.mean),
+            ],
+            values: &table.mean,
+            y_description: format!("segment mean ({})", report.units.amplitude),
+        },
+        Panel {
+            caption: vec![verdict_text("mean square", &section.mean_square)],
+            values: &table.mean_square,
+            y_description: format!("segment mean square ({})", report.units.power),
+        },
+    )
+}
+
+/// One panel of [`draw_two_panels`]: its caption, values and y-axis description.
+struct Panel<'a> {
+    caption: Vec<String>,
+    values: &'a [f64],
+    y_description: String,
+}
+
+/// Splits `area` into an upper and a lower level panel sharing the time axis 0..`end_s`
+/// (1 s when `end_s` is not a positive time) and returns the upper panel's frame.
+#[allow(clippy::too_many_arguments)]
+fn draw_two_panels<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    scale: Scale,
+    start_s: &[f64],
+    end_s: f64,
+    x_what: &str,
+    upper_panel: Panel<'_>,
+    lower_panel: Panel<'_>,
+) -> Result<PlotFrame, PlotError> {
+    let x_hi = if end_s.is_finite() && end_s > 0.0 {
+        end_s
+    } else {
+        1.0
     };
     let (_, height_px) = area.dim_in_pixel();
     let (upper, lower) = area.split_vertically(height_px / 2);
-    let upper_caption = vec![
-        "segment statistics".to_string(),
-        format!("M = {m} segments of {}", format_seconds(table.segment_s)),
-        format!("α = {}", section.alpha),
-        verdict_text("mean", &section.mean),
-    ];
     let frame = draw_level_panel(
         &upper,
         scale,
-        &upper_caption,
-        &table.start_s,
-        &table.mean,
+        &upper_panel.caption,
+        start_s,
+        upper_panel.values,
         x_hi,
-        format!("segment mean ({})", report.units.amplitude),
-        "segment start",
+        upper_panel.y_description,
+        x_what,
     )?;
-    let lower_caption = vec![verdict_text("mean square", &section.mean_square)];
     draw_level_panel(
         &lower,
         scale,
-        &lower_caption,
-        &table.start_s,
-        &table.mean_square,
+        &lower_panel.caption,
+        start_s,
+        lower_panel.values,
         x_hi,
-        format!("segment mean square ({})", report.units.power),
-        "segment start",
+        lower_panel.y_description,
+        x_what,
     )?;
     area.present()?;
     Ok(frame)
@@ -391,56 +414,32 @@ pub fn draw_ensemble_over_time<DB: DrawingBackend>(
     check_len("ensemble.over_time.mean_square", m, &over.mean_square)?;
     let step = over.start_s.get(1).copied().unwrap_or(report.duration_s)
         - over.start_s.first().copied().unwrap_or(0.0);
-    let end = over.start_s.last().copied().unwrap_or(0.0) + step;
-    let x_hi = if end.is_finite() && end > 0.0 {
-        end
-    } else {
-        1.0
-    };
-    let (_, height_px) = area.dim_in_pixel();
-    let (upper, lower) = area.split_vertically(height_px / 2);
-    let caption = vec![
-        "averages across records over time".to_string(),
-        format!("{} records, {m} segments", report.records),
-        format!(
-            "mean: {}",
-            if report.ensemble.mean.ergodic {
-                "ergodic"
-            } else {
-                "NOT ergodic"
-            }
-        ),
-    ];
-    let frame = draw_level_panel(
-        &upper,
+    let end_s = over.start_s.last().copied().unwrap_or(0.0) + step;
+    let judged = |ergodic: bool| if ergodic { "ergodic" } else { "NOT ergodic" };
+    draw_two_panels(
+        area,
         scale,
-        &caption,
         &over.start_s,
-        &over.mean,
-        x_hi,
-        format!("ensemble mean ({})", report.units.amplitude),
+        end_s,
         "time",
-    )?;
-    let lower_caption = vec![format!(
-        "mean square: {}",
-        if report.ensemble.mean_square.ergodic {
-            "ergodic"
-        } else {
-            "NOT ergodic"
-        }
-    )];
-    draw_level_panel(
-        &lower,
-        scale,
-        &lower_caption,
-        &over.start_s,
-        &over.mean_square,
-        x_hi,
-        format!("ensemble mean square ({})", report.units.power),
-        "time",
-    )?;
-    area.present()?;
-    Ok(frame)
+        Panel {
+            caption: vec![
+                "averages across records over time".to_string(),
+                format!("{} records, {m} segments", report.records),
+                format!("mean: {}", judged(report.ensemble.mean.ergodic)),
+            ],
+            values: &over.mean,
+            y_description: format!("ensemble mean ({})", report.units.amplitude),
+        },
+        Panel {
+            caption: vec![format!(
+                "mean square: {}",
+                judged(report.ensemble.mean_square.ergodic)
+            )],
+            values: &over.mean_square,
+            y_description: format!("ensemble mean square ({})", report.units.power),
+        },
+    )
 }
 
 /// Draws each stretch's normalised autocorrelation against lag (one Okabe–Ito colour per

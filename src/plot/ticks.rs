@@ -300,6 +300,16 @@ pub(crate) fn format_seconds(seconds: f64) -> String {
     )
 }
 
+/// Time ticks in seconds, chosen in the display unit of `hi_s`.
+pub(crate) fn time_ticks(lo_s: f64, hi_s: f64, max_labels: usize, factor: f64) -> Ticks {
+    let ticks = linear_ticks(lo_s / factor, hi_s / factor, max_labels);
+    Ticks {
+        bold: ticks.bold.iter().map(|v| v * factor).collect(),
+        light: ticks.light.iter().map(|v| v * factor).collect(),
+        step: ticks.step * factor,
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
